@@ -1,0 +1,108 @@
+#include "process.hpp"
+
+#include <poll.h>
+#include <signal.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <array>
+#include <cerrno>
+#include <stdexcept>
+
+namespace floc::test {
+namespace {
+
+void close_fd(int& fd) {
+    if (fd >= 0) {
+        ::close(fd);
+        fd = -1;
+    }
+}
+
+} // namespace
+
+process_result run_process(const std::vector<std::string>& argv, std::chrono::milliseconds limit,
+                           const std::string& input) {
+    if (argv.empty()) {
+        throw std::invalid_argument("run_process: empty argv");
+    }
+    std::array<int, 2> out_pipe{-1, -1};
+    std::array<int, 2> err_pipe{-1, -1};
+    std::array<int, 2> in_pipe{-1, -1};
+    if (::pipe(out_pipe.data()) != 0 || ::pipe(err_pipe.data()) != 0 || ::pipe(in_pipe.data()) != 0) {
+        throw std::runtime_error("run_process: pipe failed");
+    }
+    std::vector<char*> args;
+    args.reserve(argv.size() + 1);
+    for (const std::string& a : argv) {
+        args.push_back(const_cast<char*>(a.c_str()));  // execv takes char* const[]
+    }
+    args.push_back(nullptr);
+
+    const pid_t pid = ::fork();
+    if (pid < 0) {
+        throw std::runtime_error("run_process: fork failed");
+    }
+    if (pid == 0) {
+        ::dup2(in_pipe[0], STDIN_FILENO);
+        ::dup2(out_pipe[1], STDOUT_FILENO);
+        ::dup2(err_pipe[1], STDERR_FILENO);
+        for (int fd : {in_pipe[0], in_pipe[1], out_pipe[0], out_pipe[1], err_pipe[0], err_pipe[1]}) {
+            ::close(fd);
+        }
+        ::execv(args[0], args.data());
+        ::_exit(127);
+    }
+    close_fd(in_pipe[0]);
+    close_fd(out_pipe[1]);
+    close_fd(err_pipe[1]);
+    if (!input.empty()) {
+        // Small inputs only; a pipe holds 64 KiB.
+        const ssize_t n = ::write(in_pipe[1], input.data(), input.size());
+        (void)n;
+    }
+    close_fd(in_pipe[1]);
+
+    process_result result;
+    const auto deadline = std::chrono::steady_clock::now() + limit;
+    std::array<char, 4096> buf{};
+    while (out_pipe[0] >= 0 || err_pipe[0] >= 0) {
+        const auto left = std::chrono::duration_cast<std::chrono::milliseconds>(
+            deadline - std::chrono::steady_clock::now());
+        if (left.count() <= 0) {
+            result.timed_out = true;
+            ::kill(pid, SIGKILL);
+            break;
+        }
+        std::array<pollfd, 2> fds{{{out_pipe[0], POLLIN, 0}, {err_pipe[0], POLLIN, 0}}};
+        const int ready = ::poll(fds.data(), fds.size(), static_cast<int>(left.count()));
+        if (ready < 0 && errno == EINTR) {
+            continue;
+        }
+        for (std::size_t i = 0; i < fds.size(); ++i) {
+            if (fds.at(i).fd < 0 || (fds.at(i).revents & (POLLIN | POLLHUP | POLLERR)) == 0) {
+                continue;
+            }
+            const ssize_t n = ::read(fds.at(i).fd, buf.data(), buf.size());
+            int& fd = i == 0 ? out_pipe[0] : err_pipe[0];
+            if (n <= 0) {
+                close_fd(fd);
+            } else {
+                (i == 0 ? result.out : result.err).append(buf.data(), static_cast<std::size_t>(n));
+            }
+        }
+    }
+    close_fd(out_pipe[0]);
+    close_fd(err_pipe[0]);
+    int status = 0;
+    while (::waitpid(pid, &status, 0) < 0 && errno == EINTR) {
+    }
+    if (WIFEXITED(status)) {
+        result.exit_code = WEXITSTATUS(status);
+    } else if (WIFSIGNALED(status)) {
+        result.exit_code = 128 + WTERMSIG(status);
+    }
+    return result;
+}
+
+} // namespace floc::test
