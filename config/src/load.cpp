@@ -495,7 +495,7 @@ void read_plant(loader& l, table_reader& root) {
 
 namespace {
 
-load_result finish(detail::diagnostics& diags, detail::loader& l, bool parsed) {
+load_result finish(diagnostics& diags, detail::loader& l, bool parsed) {
     load_result result;
     if (parsed && !diags.any()) {
         detail::check_registers(l);
@@ -510,12 +510,12 @@ load_result finish(detail::diagnostics& diags, detail::loader& l, bool parsed) {
 } // namespace
 
 load_result load_text(std::string_view text, std::string_view source_name) {
-    detail::diagnostics diags{std::string{source_name}};
+    diagnostics diags{std::string{source_name}};
     detail::loader l{diags};
     l.cfg.source_file = std::string{source_name};
-    const bool parsed = detail::read_document(text, diags, [&](detail::table_reader& root) {
+    const bool parsed = read_document(text, diags, [&](table_reader& root) {
         const std::optional<std::int64_t> version =
-            root.integer("config_version", 0, 1000000, detail::need::required);
+            root.integer("config_version", 0, 1000000, need::required);
         if (version && *version != schema_version) {
             diags.error(root.pos_of("config_version"), "config_version",
                         "version " + std::to_string(*version),

@@ -1,7 +1,7 @@
 // Internal: the state shared by the section readers while one file is loaded.
 #pragma once
 
-#include "reader.hpp"
+#include "floc/config/table_reader.hpp"
 
 #include <map>
 #include <set>

@@ -1,6 +1,9 @@
 // Schema-driven access to one TOML table: every getter records the key as known, checks type
 // and range, converts units, and reports problems to a shared diagnostics list with the
-// file:line:column of the offending node. toml++ types stay inside reader.cpp.
+// file:line:column of the offending node. toml++ types stay inside table_reader.cpp.
+//
+// Used by the floc config loader and by the simulator's scenario loader: one reader, one
+// shape of error message for every file the project reads.
 #pragma once
 
 #include "floc/config/load.hpp"
@@ -16,7 +19,7 @@
 #include <utility>
 #include <vector>
 
-namespace floc::config::detail {
+namespace floc::config {
 
 class diagnostics {
 public:
@@ -38,7 +41,7 @@ enum class measure : std::uint8_t { absolute, difference };
 
 class table_reader {
 public:
-    // `table` is a const toml::table*; kept opaque so that toml++ stays inside reader.cpp.
+    // `table` is a const toml::table*; kept opaque so that toml++ stays inside table_reader.cpp.
     table_reader(const void* table, std::string path, diagnostics& diags);
 
     table_reader(const table_reader&) = delete;
@@ -127,4 +130,4 @@ bool read_document(std::string_view text, diagnostics& diags,
 [[nodiscard]] std::string with_article(std::string_view noun);
 [[nodiscard]] std::string describe_quantity_example(units::quantity kind);
 
-} // namespace floc::config::detail
+} // namespace floc::config

@@ -1,4 +1,4 @@
-#include "reader.hpp"
+#include "floc/config/table_reader.hpp"
 
 #include <toml++/toml.h>
 
@@ -7,7 +7,7 @@
 #include <cstdio>
 #include <variant>
 
-namespace floc::config::detail {
+namespace floc::config {
 namespace {
 
 const toml::table& as_table(const void* p) { return *static_cast<const toml::table*>(p); }
@@ -570,4 +570,4 @@ bool read_document(std::string_view text, diagnostics& diags,
     return true;
 }
 
-} // namespace floc::config::detail
+} // namespace floc::config
