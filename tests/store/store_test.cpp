@@ -2,6 +2,7 @@
 #include "floc/store/files.hpp"
 #include "floc/store/journal.hpp"
 #include "floc/store/json.hpp"
+#include "floc/store/state_file.hpp"
 #include "process.hpp"
 
 #include <gtest/gtest.h>
@@ -132,6 +133,34 @@ TEST(Journal, ReopensAndContinues) {
     std::error_code ec;
     EXPECT_EQ(store::read_whole(f, ec).value_or(""), "{\"run\":0}\n{\"run\":1}\n{\"run\":2}\n");
     fs::remove_all(dir);
+}
+
+TEST(StateFile, RoundTrip) {
+    store::state_document doc;
+    doc.sections["lab.a_mlss"]["value"] = 3200.0;
+    doc.sections["lab.a_mlss"]["entered_by"] = std::string{"127.0.0.1"};
+    doc.sections["advisor.waste.A"]["daily_mlss"] = std::vector<double>{3000.0, 3100.5, 2990.25};
+    doc.sections["advisor.waste.A"]["integral"] = std::nan("");
+    doc.sections["advisor.aeration.a_oxic1"]["last"] = -INFINITY;
+    const std::string text = store::to_text(doc);
+    const auto parsed = store::parse_state(text, "state.toml");
+    ASSERT_TRUE(std::holds_alternative<store::state_document>(parsed)) << std::get<std::string>(parsed);
+    const auto& back = std::get<store::state_document>(parsed);
+    EXPECT_DOUBLE_EQ(back.number("lab.a_mlss", "value", 0.0), 3200.0);
+    EXPECT_EQ(back.text("lab.a_mlss", "entered_by"), "127.0.0.1");
+    EXPECT_EQ(back.numbers("advisor.waste.A", "daily_mlss"), (std::vector<double>{3000.0, 3100.5, 2990.25}));
+    EXPECT_TRUE(std::isnan(back.number("advisor.waste.A", "integral", 0.0)));
+    EXPECT_EQ(back.number("advisor.aeration.a_oxic1", "last", 0.0), -INFINITY);
+    EXPECT_DOUBLE_EQ(back.number("nothing", "here", 7.0), 7.0);
+}
+
+TEST(StateFile, ErrorsNameThePosition) {
+    const auto bad = store::parse_state("state_format = 1\n[section.x\n", "s.toml");
+    ASSERT_TRUE(std::holds_alternative<std::string>(bad));
+    EXPECT_EQ(std::get<std::string>(bad).rfind("s.toml:2:", 0), 0U) << std::get<std::string>(bad);
+    const auto old = store::parse_state("state_format = 9\n", "s.toml");
+    ASSERT_TRUE(std::holds_alternative<std::string>(old));
+    EXPECT_NE(std::get<std::string>(old).find("expected 1"), std::string::npos);
 }
 
 } // namespace
