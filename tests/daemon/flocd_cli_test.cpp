@@ -34,7 +34,6 @@ TEST(FlocdCli, Version) {
 }
 
 TEST(FlocdCli, UsageErrorsExit64) {
-    EXPECT_EQ(run_process({flocd}).exit_code, 64);
     EXPECT_EQ(run_process({flocd, "--bogus"}).exit_code, 64);
     EXPECT_EQ(run_process({flocd, "--check-config"}).exit_code, 64);
 }
@@ -53,6 +52,12 @@ TEST(FlocdCli, CheckConfigAcceptsEveryExample) {
         EXPECT_NE(r.out.find("(read only)"), std::string::npos) << r.out;
     }
     EXPECT_GE(n, 2U);
+}
+
+TEST(FlocdCli, ServiceWithoutItsConfigExits66) {
+    const auto r = run_process({flocd, "--config", "/nonexistent/flocd.toml", "--once"});
+    EXPECT_EQ(r.exit_code, 66);
+    EXPECT_NE(r.err.find("/nonexistent/flocd.toml"), std::string::npos) << r.err;
 }
 
 TEST(FlocdCli, CheckConfigMissingFileExits66) {

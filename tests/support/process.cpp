@@ -1,5 +1,6 @@
 #include "process.hpp"
 
+#include <fcntl.h>
 #include <poll.h>
 #include <signal.h>
 #include <sys/wait.h>
@@ -104,5 +105,96 @@ process_result run_process(const std::vector<std::string>& argv, std::chrono::mi
     }
     return result;
 }
+
+namespace {
+
+int decode_status(int status) {
+    if (WIFEXITED(status)) {
+        return WEXITSTATUS(status);
+    }
+    if (WIFSIGNALED(status)) {
+        return 128 + WTERMSIG(status);
+    }
+    return -1;
+}
+
+} // namespace
+
+background_process::background_process(const std::vector<std::string>& argv,
+                                       const std::string& out_path, const std::string& err_path) {
+    if (argv.empty()) {
+        throw std::invalid_argument("background_process: empty argv");
+    }
+    std::vector<char*> args;
+    for (const std::string& a : argv) {
+        args.push_back(const_cast<char*>(a.c_str()));  // execv takes char* const[]
+    }
+    args.push_back(nullptr);
+    const std::string out = out_path.empty() ? "/dev/null" : out_path;
+    const std::string err = err_path.empty() ? "/dev/null" : err_path;
+    pid_ = ::fork();
+    if (pid_ < 0) {
+        throw std::runtime_error("background_process: fork failed");
+    }
+    if (pid_ == 0) {
+        const int in_fd = ::open("/dev/null", O_RDONLY);
+        const int out_fd = ::open(out.c_str(), O_WRONLY | O_CREAT | O_TRUNC, 0644);
+        const int err_fd = ::open(err.c_str(), O_WRONLY | O_CREAT | O_TRUNC, 0644);
+        if (in_fd < 0 || out_fd < 0 || err_fd < 0) {
+            ::_exit(126);
+        }
+        ::dup2(in_fd, STDIN_FILENO);
+        ::dup2(out_fd, STDOUT_FILENO);
+        ::dup2(err_fd, STDERR_FILENO);
+        ::execv(args[0], args.data());
+        ::_exit(127);
+    }
+}
+
+background_process::~background_process() {
+    if (pid_ > 0 && !exit_code_) {
+        stop(std::chrono::seconds{5});
+    }
+}
+
+void background_process::signal(int sig) const {
+    if (pid_ > 0 && !exit_code_) {
+        ::kill(pid_, sig);
+    }
+}
+
+std::optional<int> background_process::wait(std::chrono::milliseconds limit) {
+    if (exit_code_) {
+        return exit_code_;
+    }
+    const auto end = std::chrono::steady_clock::now() + limit;
+    while (true) {
+        int status = 0;
+        const pid_t r = ::waitpid(pid_, &status, WNOHANG);
+        if (r == pid_) {
+            exit_code_ = decode_status(status);
+            return exit_code_;
+        }
+        if (r < 0 && errno != EINTR) {
+            exit_code_ = -1;
+            return exit_code_;
+        }
+        if (std::chrono::steady_clock::now() >= end) {
+            return std::nullopt;
+        }
+        ::usleep(5000);
+    }
+}
+
+int background_process::stop(std::chrono::milliseconds grace) {
+    signal(SIGTERM);
+    if (const auto code = wait(grace)) {
+        return *code;
+    }
+    signal(SIGKILL);
+    return wait(std::chrono::seconds{10}).value_or(-1);
+}
+
+bool background_process::running() { return !wait(std::chrono::milliseconds{0}).has_value(); }
 
 } // namespace floc::test

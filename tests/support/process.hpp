@@ -2,6 +2,7 @@
 #pragma once
 
 #include <chrono>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -19,5 +20,33 @@ struct process_result {
 [[nodiscard]] process_result run_process(const std::vector<std::string>& argv,
                                          std::chrono::milliseconds limit = std::chrono::seconds{30},
                                          const std::string& input = {});
+
+// A program running in the background for the length of a test: started with its output going
+// to files, stopped by PID (SIGTERM, then SIGKILL after a grace period) in the destructor.
+class background_process {
+public:
+    // `out_path` / `err_path` receive standard output and error ("" = /dev/null).
+    background_process(const std::vector<std::string>& argv, const std::string& out_path = {},
+                       const std::string& err_path = {});
+    ~background_process();
+
+    background_process(const background_process&) = delete;
+    background_process& operator=(const background_process&) = delete;
+    background_process(background_process&&) = delete;
+    background_process& operator=(background_process&&) = delete;
+
+    [[nodiscard]] int pid() const { return pid_; }
+    // Sends a signal (no-op once the process was reaped).
+    void signal(int sig) const;
+    // Waits at most `limit` for the process to end; its exit code (128 + signal) or nothing.
+    std::optional<int> wait(std::chrono::milliseconds limit);
+    // SIGTERM, wait `grace`, then SIGKILL; returns the exit code.
+    int stop(std::chrono::milliseconds grace = std::chrono::seconds{5});
+    [[nodiscard]] bool running();
+
+private:
+    int pid_ = -1;
+    std::optional<int> exit_code_;
+};
 
 } // namespace floc::test

@@ -1,0 +1,55 @@
+// Lab entries the operator types in on the HMI: range-checked, acknowledged, remembered across
+// restarts (through the state file) and handed to the advisors with their sample time. Pure.
+#pragma once
+
+#include "floc/config/config.hpp"
+#include "floc/registers/image.hpp"
+#include "floc/store/state_file.hpp"
+
+#include <cstdint>
+#include <optional>
+#include <vector>
+
+namespace floc::app {
+
+struct lab_sample {
+    double value = 0.0;          // canonical unit of the entry's quantity
+    double sample_time_s = 0.0;  // plant time the sample was taken
+    double entered_at_s = 0.0;   // plant time it was entered
+    std::uint32_t entered_by = 0; // IPv4 address (host order) of the HMI that wrote it
+};
+
+class lab_book {
+public:
+    explicit lab_book(const config::plant_config& cfg);
+
+    // Applies one decoded write from `client` at plant time `now_s`. `allowed` tells whether the
+    // client may write lab entries at all. Returns the acknowledgement the slot shows.
+    registers::lab_status apply(const registers::lab_write& w, std::uint32_t client, bool allowed,
+                                double now_s);
+
+    [[nodiscard]] const std::optional<lab_sample>& current(std::size_t entry) const {
+        return entries_.at(entry).sample;
+    }
+    // The current sample, if younger than the entry's max_age at `now_s`.
+    [[nodiscard]] std::optional<lab_sample> fresh(std::size_t entry, double now_s) const;
+    [[nodiscard]] registers::lab_info info(std::size_t entry, double now_s) const;
+    [[nodiscard]] std::size_t size() const { return entries_.size(); }
+
+    void save(store::state_document& doc) const;
+    // Restores entries by name; entries no longer in the config are dropped, values outside the
+    // (possibly new) range are dropped.
+    void load(const store::state_document& doc);
+
+private:
+    struct slot {
+        std::optional<lab_sample> sample;
+        registers::lab_status status = registers::lab_status::none;
+        std::uint16_t entries = 0;
+        std::uint16_t pending_minutes_ago = 0;
+    };
+    const config::plant_config& cfg_;
+    std::vector<slot> entries_;
+};
+
+} // namespace floc::app
