@@ -108,8 +108,9 @@ double run_ammonia(step_context& c) {
         e += std::string{" ("} + (feedforward > 0.0 ? "+" : "-") +
              text_difference(std::abs(feedforward), quantity::concentration, c.p.text_units) + ")";
     }
-    e += "; DO advice " + detail::change(!std::isnan(previous), previous, shaped.value,
-                                         quantity::concentration, c.p.text_units);
+    e += "; DO advice " +
+         detail::change(!std::isnan(previous), previous, shaped.value,
+                        detail::quantity_text(quantity::concentration, c.p.text_units));
     c.a.explanation = std::move(e);
     c.a.add_figure("ammonia_error", quantity::concentration, error);
     c.a.add_figure("feedforward", quantity::concentration, feedforward);
@@ -144,8 +145,10 @@ double run_rules(step_context& c) {
     track(lower_residual, c.s.residual_active, c.s.residual_since_s, c.now_s);
     track(lower_light, c.s.light_active, c.s.light_since_s, c.now_s);
 
+    // The rules keep their own level, which the published advice follows at the rate limit (so
+    // that a step cut by the rate limit is not lost).
     const bool resume = c.s.last_mode != mode_rules || !c.s.out.last_was_good || !c.s.out.has_value;
-    const double base = resume ? start_value(c) : c.s.out.value;
+    const double base = std::clamp(resume ? start_value(c) : c.s.rules_level_g_per_m3, c.lo, c.hi);
     const double previous = c.s.out.has_value ? c.s.out.value : base;
     double wanted = base;
 
@@ -190,11 +193,13 @@ double run_rules(step_context& c) {
 
     const double max_step =
         c.p.max_change_per_hour_g_per_m3 * since_last_s(c.s.out, c.now_s) / 3600.0;
+    c.s.rules_level_g_per_m3 = std::clamp(wanted, c.lo, c.hi);
     const shaped_output shaped = shape_output(wanted, previous, max_step, c.lo, c.hi);
     note_shaping(shaped, c.a.reasons);
-    c.a.explanation = why + "; DO advice " +
-                      detail::change(c.s.out.has_value, previous, shaped.value,
-                                     quantity::concentration, c.p.text_units);
+    c.a.explanation =
+        why + "; DO advice " +
+        detail::change(c.s.out.has_value, previous, shaped.value,
+                       detail::quantity_text(quantity::concentration, c.p.text_units));
     if (has_trend) {
         c.a.add_figure("nitrate_trend_per_hour", quantity::concentration, trend);
     }
@@ -277,7 +282,7 @@ aeration_result step_aeration(const aeration_params& p, const aeration_inputs& i
                                            {"flow", &in.flow}});
         }
         a.explanation = detail::held(why, "DO advice", h, s.out, now_s, p.hold_for_s,
-                                     quantity::concentration, p.text_units);
+                                     detail::quantity_text(quantity::concentration, p.text_units));
         if (cold) {
             a.reasons.add(reason::cold_weather_minimum);
         }

@@ -19,13 +19,16 @@ std::string unusable_inputs(std::initializer_list<named_reading> readings) {
     return out.empty() ? std::string{"inputs unusable"} : out;
 }
 
-std::string change(bool had_previous, double previous, double now, units::quantity q,
-                   units::unit_system system) {
-    const std::string after = text(now, q, system);
+value_text quantity_text(units::quantity q, units::unit_system system) {
+    return [q, system](double v) { return text(v, q, system); };
+}
+
+std::string change(bool had_previous, double previous, double now, const value_text& write) {
+    const std::string after = write(now);
     if (!had_previous) {
         return after;
     }
-    const std::string before = text(previous, q, system);
+    const std::string before = write(previous);
     if (before == after) {
         return "unchanged at " + after;
     }
@@ -33,19 +36,16 @@ std::string change(bool had_previous, double previous, double now, units::quanti
 }
 
 std::string held(std::string_view why, std::string_view what, const held_output& h,
-                 const output_memory& m, double now_s, double hold_for_s, units::quantity q,
-                 units::unit_system system) {
+                 const output_memory& m, double now_s, double hold_for_s, const value_text& write) {
     std::string out{why};
     if (h.quality == advice_quality::held) {
-        out += "; holding the last good " + std::string{what} + " " + text(h.value, q, system) +
-               " (" + text_duration(now_s - m.good_at_s) + " of " + text_duration(hold_for_s) + ")";
+        out += "; holding the last good " + std::string{what} + " " + write(h.value) + " (" +
+               text_duration(now_s - m.good_at_s) + " of " + text_duration(hold_for_s) + ")";
     } else if (m.has_good) {
-        out += "; fallback " + std::string{what} + " " + text(h.value, q, system) +
-               " (no good input for " + text_duration(now_s - m.good_at_s) + ", hold " +
-               text_duration(hold_for_s) + ")";
+        out += "; fallback " + std::string{what} + " " + write(h.value) + " (no good input for " +
+               text_duration(now_s - m.good_at_s) + ", hold " + text_duration(hold_for_s) + ")";
     } else {
-        out += "; fallback " + std::string{what} + " " + text(h.value, q, system) +
-               " (no good advice yet)";
+        out += "; fallback " + std::string{what} + " " + write(h.value) + " (no good advice yet)";
     }
     return out;
 }

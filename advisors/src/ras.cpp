@@ -144,7 +144,7 @@ ras_result step_ras(const ras_params& p, const ras_inputs& in, const ras_state& 
                                            {"SV30", &in.sv30}});
         }
         a.explanation = detail::held(why, "RAS ratio", h, s.out, now_s, p.hold_for_s,
-                                     quantity::dimensionless, sys);
+                                     detail::quantity_text(quantity::dimensionless, sys));
         if (flow_ok) {
             a.add_figure("ras_flow", quantity::flow, a.value * flow);
         }
@@ -253,7 +253,9 @@ ras_result step_ras(const ras_params& p, const ras_inputs& in, const ras_state& 
         }
         e += ", trim " + std::string{trim >= 0.0 ? "+" : ""} + text_number(trim, 2);
     }
-    e += "; RAS " + detail::change(s.out.has_value, prev, a.value, quantity::dimensionless, sys) +
+    e += "; RAS " +
+         detail::change(s.out.has_value, prev, a.value,
+                        detail::quantity_text(quantity::dimensionless, sys)) +
          "x influent (" + text(ras_flow, quantity::flow, sys) + ")";
 
     a.add_figure("ras_flow", quantity::flow, ras_flow);
@@ -291,7 +293,7 @@ ras_result step_ras(const ras_params& p, const ras_inputs& in, const ras_state& 
         }
         a.add_figure("svi", quantity::sludge_volume_index, settling.svi);
         a.add_figure("v0", quantity::velocity, v.v0_m_per_d);
-        a.add_figure("k", quantity::dimensionless, v.k_m3_per_g * 1000.0); // L/g
+        a.add_figure("k_l_per_g", quantity::dimensionless, v.k_m3_per_g * 1000.0);
         a.add_figure("overflow_rate", quantity::velocity, sp.overflow_rate_m_per_d);
         a.add_figure("settling_velocity", quantity::velocity, sp.settling_velocity_m_per_d);
         a.add_figure("clarification_margin", quantity::dimensionless, sp.clarification_margin);

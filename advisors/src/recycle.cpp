@@ -58,7 +58,7 @@ recycle_result step_recycle(const recycle_params& p, const recycle_inputs& in,
                 ? std::string{"no influent flow"}
                 : detail::unusable_inputs({{"anoxic nitrate", &in.nitrate}, {"flow", &in.flow}});
         a.explanation = detail::held(why, "recycle ratio", h, s.out, now_s, p.hold_for_s,
-                                     quantity::dimensionless, sys);
+                                     detail::quantity_text(quantity::dimensionless, sys));
         remember(s.out, a.value, now_s, false);
         return r;
     }
@@ -111,7 +111,8 @@ recycle_result step_recycle(const recycle_params& p, const recycle_inputs& in,
                      : error < 0.0 ? " above "
                                    : " at ") +
                     text(p.target_g_per_m3, quantity::concentration, sys) + " target; recycle " +
-                    detail::change(!std::isnan(prev), prev, a.value, quantity::dimensionless, sys) +
+                    detail::change(!std::isnan(prev), prev, a.value,
+                                   detail::quantity_text(quantity::dimensionless, sys)) +
                     "x influent (" + text(recycle_flow, quantity::flow, sys) + ")";
     if (a.reasons.has(reason::pump_limit)) {
         a.explanation += "; pump limits " + text(p.pump_min_m3_per_d, quantity::flow, sys) +

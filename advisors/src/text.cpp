@@ -56,3 +56,12 @@ std::string text_duration(double seconds) {
 }
 
 } // namespace floc::advisors
+
+namespace floc::advisors {
+
+std::string text_daily_flow(double m3_per_d, units::unit_system system, int digits) {
+    const units::unit& u = *units::find_unit(system == units::unit_system::si ? "m3/d" : "gpd");
+    return text_number(units::from_canonical(m3_per_d, u), digits) + " " + std::string{u.symbol};
+}
+
+} // namespace floc::advisors

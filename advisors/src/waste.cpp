@@ -152,7 +152,8 @@ waste_result step_waste(const waste_params& p, const waste_inputs& in, const was
     a.min = p.min_waste_m3_per_d;
     a.max = p.max_waste_m3_per_d;
     const units::unit_system sys = p.text_units;
-    const auto flow_text = [&](double v) { return text(v, quantity::flow, sys); };
+    const detail::value_text daily = [sys](double v) { return text_daily_flow(v, sys); };
+    const auto& flow_text = daily;
 
     record(p, in, s, now_s);
     const std::int64_t today = day_of(now_s);
@@ -193,8 +194,7 @@ waste_result step_waste(const waste_params& p, const waste_inputs& in, const was
             why = "waste solids not above effluent solids";
         }
         why += " in the last " + std::to_string(p.averaging_days) + " d";
-        a.explanation =
-            detail::held(why, "waste flow", h, s.out, now_s, p.hold_for_s, quantity::flow, sys);
+        a.explanation = detail::held(why, "waste flow", h, s.out, now_s, p.hold_for_s, daily);
         remember(s.out, a.value, now_s, false);
         return r;
     }
@@ -254,7 +254,9 @@ waste_result step_waste(const waste_params& p, const waste_inputs& in, const was
                 s.out.has_value
                     ? s.out.value
                     : std::max(waste_flow_for_srt(inventory_g, p.target_srt_s, q, xw, xe), 0.0);
-            s.mlss_loop = pi_start(mass_of(start), error, 0.0, tuning, now_s);
+            // The integral starts at the wastage in force (or the SRT-mode estimate of the sludge
+            // production); the proportional part acts on the excess from the first advice.
+            s.mlss_loop = pi_start(mass_of(start), 0.0, 0.0, tuning, now_s);
         }
         const pi_proposal proposal = pi_propose(tuning, s.mlss_loop, error, 0.0, now_s);
         wanted = (proposal.wanted - q * xe) / (xw - xe);
@@ -381,8 +383,8 @@ waste_result step_waste(const waste_params& p, const waste_inputs& in, const was
              text(*m.temperature, quantity::temperature, sys);
     }
     e += "; waste advice " +
-         detail::change(std::isfinite(s.base_value), s.base_value, value, quantity::flow, sys) +
-         " (SRT " + text_duration(srt_advised_s) + ")";
+         detail::change(std::isfinite(s.base_value), s.base_value, value, daily) + " (SRT " +
+         text_duration(srt_advised_s) + ")";
     if (a.reasons.has(reason::daily_change_limited)) {
         e += ", limited to " + text_number(100.0 * p.max_daily_change) + " % a day";
     }

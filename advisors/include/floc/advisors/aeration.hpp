@@ -102,6 +102,7 @@ struct aeration_state {
     double residual_since_s = 0.0;
     bool light_active = false; // rule R3
     double light_since_s = 0.0;
+    double rules_level_g_per_m3 = 0.0; // the level the rules have set; the advice follows it
 };
 
 struct aeration_result {

@@ -26,3 +26,12 @@ namespace floc::advisors {
 [[nodiscard]] std::string text_number(double x, int digits = 3);
 
 } // namespace floc::advisors
+
+namespace floc::advisors {
+
+// A daily volume of sludge or water: m3/d in SI, gpd in US customary (operators count waste
+// sludge per day, not per hour or minute).
+[[nodiscard]] std::string text_daily_flow(double m3_per_d, units::unit_system system,
+                                          int digits = 3);
+
+} // namespace floc::advisors
