@@ -1,4 +1,5 @@
 // flocd: the floc advisory daemon.
+#include "calc.hpp"
 #include "config_summary.hpp"
 #include "exit_codes.hpp"
 
@@ -10,6 +11,7 @@
 #include <span>
 #include <string>
 #include <string_view>
+#include <vector>
 
 #ifndef FLOC_VERSION
 #define FLOC_VERSION "0.0.0"
@@ -21,6 +23,11 @@ constexpr std::string_view help_text = R"(flocd - floc advisory service for acti
 
 Usage:
   flocd --check-config FILE   validate FILE, print a short summary, exit
+  flocd calc [--units si|us] ADVISOR key=value ...
+                              run one advisor on given inputs and print the advice, its
+                              explanation and figures (do, recycle, ras, state-point, was,
+                              min-srt); 'flocd calc --help' lists them, 'flocd calc ADVISOR
+                              --help' their keys
   flocd --help                this text
   flocd --version             version
 
@@ -32,8 +39,8 @@ CAUTION: floc is advisory only. A licensed operator decides every set point; loc
 permits, codes and plant procedures prevail over any advice. Never point the simulator
 (flocsim) or the test suite at a real plant network.
 
-Exit codes: 0 ok / config valid, 64 bad command line, 66 file unreadable,
-            70 internal error, 78 config invalid.
+Exit codes: 0 ok / config valid, 64 bad command line, 65 bad calc value,
+            66 file unreadable, 70 internal error, 78 config invalid.
 The config reference is config/README.md in the source tree.
 )";
 
@@ -80,6 +87,10 @@ int run(std::span<char*> args) {
             return usage_error("--check-config takes exactly one FILE");
         }
         return check_config(args[2]);
+    }
+    if (first == "calc") {
+        const std::vector<std::string_view> rest(args.begin() + 2, args.end());
+        return floc::app::run_calc(rest, std::cout, std::cerr);
     }
     return usage_error("unknown option '" + std::string{first} + "'");
 }
