@@ -3,7 +3,10 @@
 
 #include <gtest/gtest.h>
 
+#include <filesystem>
+#include <fstream>
 #include <set>
+#include <sstream>
 #include <string>
 
 namespace {
@@ -59,6 +62,22 @@ TEST(Reasons, ListKeepsOrderIgnoresDuplicatesAndIsBounded) {
         l.add(r.code);
     }
     EXPECT_EQ(l.size(), max_reasons);
+}
+
+// README.md's reason table ("How each advice is computed") lists every code with its name.
+TEST(Reasons, ReadmeTableListsEveryCode) {
+    std::ifstream in(std::filesystem::path{FLOC_SOURCE_DIR} / "README.md");
+    ASSERT_TRUE(in.good());
+    std::ostringstream text;
+    text << in.rdbuf();
+    for (const reason_info& r : all_reasons()) {
+        if (r.code == reason::none) {
+            continue;
+        }
+        const std::string row = "| " + std::to_string(static_cast<int>(r.code)) + " | `" +
+                                std::string{r.name} + "` | " + std::string{r.text} + " |";
+        EXPECT_NE(text.str().find(row), std::string::npos) << "README.md lacks: " << row;
+    }
 }
 
 } // namespace
