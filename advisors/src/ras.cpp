@@ -156,7 +156,7 @@ ras_result step_ras(const ras_params& p, const ras_inputs& in, const ras_state& 
 
     // Blanket trim.
     const pi_tuning tuning{p.blanket_gain_per_m, p.blanket_integral_time_s};
-    double trim = s.trim.primed ? s.trim.integral : 0.0;
+    double trim = s.last_trim;
     std::optional<pi_proposal> proposal;
     double blanket_error = 0.0;
     if (in.blanket.usable()) {
@@ -216,6 +216,7 @@ ras_result step_ras(const ras_params& p, const ras_inputs& in, const ras_state& 
     const shaped_output shaped = shape_output(wanted, prev, max_step, lo, hi);
     if (proposal) {
         s.trim = pi_accept(s.trim, *proposal, shaped.value - *base, 0.0, now_s);
+        s.last_trim = trim;
     }
     note_shaping(shaped, a.reasons);
     if (b.pump_limited &&

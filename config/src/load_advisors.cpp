@@ -64,6 +64,28 @@ void read_pump_limits(table_reader& t, double& min_flow, double& max_flow) {
     }
 }
 
+// The output keys of an advisor that advises a multiple of the influent flow (recycle, RAS).
+struct flow_paced_output {
+    double& min_ratio;
+    double& max_ratio;
+    double& pump_min_m3_per_d;
+    double& pump_max_m3_per_d;
+    double& max_change_per_hour;
+    double& fallback_ratio;
+};
+
+// `ratio_limits` (up to `upper`), `pump_limits`, `max_change_per_hour`, `fallback_ratio`.
+void read_flow_paced(table_reader& t, flow_paced_output o, double upper) {
+    read_ratio_limits(t, o.min_ratio, o.max_ratio, upper);
+    read_pump_limits(t, o.pump_min_m3_per_d, o.pump_max_m3_per_d);
+    o.max_change_per_hour = t.number("max_change_per_hour", 0.01, upper, need::optional)
+                                .value_or(o.max_change_per_hour);
+    o.fallback_ratio = t.number("fallback_ratio", 0.0, upper, need::optional)
+                           .value_or(std::clamp(o.fallback_ratio, o.min_ratio, o.max_ratio));
+    check_inside(t, "fallback_ratio", o.fallback_ratio, o.min_ratio, o.max_ratio,
+                 quantity::dimensionless);
+}
+
 // "HH:MM" -> minute of the day.
 std::optional<std::uint32_t> read_clock_time(table_reader& t, std::string_view key) {
     const std::optional<std::string> s = t.string(key, need::optional);
@@ -248,14 +270,9 @@ void read_recycle(loader& l, table_reader& t, std::map<std::string, source_pos, 
     p.gain_per_g_per_m3 = t.number("gain", 0.0, 20.0, need::optional).value_or(p.gain_per_g_per_m3);
     p.integral_time_s = t.quantity("integral_time", quantity::duration, 60.0, 7 * 86400.0, need::optional)
                             .value_or(p.integral_time_s);
-    read_ratio_limits(t, p.min_ratio, p.max_ratio, 10.0);
-    read_pump_limits(t, p.pump_min_m3_per_d, p.pump_max_m3_per_d);
-    p.max_change_per_hour = t.number("max_change_per_hour", 0.01, 10.0, need::optional)
-                                .value_or(p.max_change_per_hour);
-    p.fallback_ratio = t.number("fallback_ratio", 0.0, 10.0, need::optional)
-                           .value_or(std::clamp(p.fallback_ratio, p.min_ratio, p.max_ratio));
-    check_inside(t, "fallback_ratio", p.fallback_ratio, p.min_ratio, p.max_ratio,
-                 quantity::dimensionless);
+    read_flow_paced(t, {p.min_ratio, p.max_ratio, p.pump_min_m3_per_d, p.pump_max_m3_per_d,
+                        p.max_change_per_hour, p.fallback_ratio},
+                    10.0);
     l.cfg.recycle.push_back(std::move(r));
 }
 
@@ -339,14 +356,9 @@ void read_ras(loader& l, table_reader& t, std::map<std::string, source_pos, std:
     p.blanket_integral_time_s = t.quantity("blanket_integral_time", quantity::duration, 600.0,
                                            7 * 86400.0, need::optional)
                                     .value_or(p.blanket_integral_time_s);
-    read_ratio_limits(t, p.min_ratio, p.max_ratio, 5.0);
-    read_pump_limits(t, p.pump_min_m3_per_d, p.pump_max_m3_per_d);
-    p.max_change_per_hour = t.number("max_change_per_hour", 0.01, 5.0, need::optional)
-                                .value_or(p.max_change_per_hour);
-    p.fallback_ratio = t.number("fallback_ratio", 0.0, 5.0, need::optional)
-                           .value_or(std::clamp(p.fallback_ratio, p.min_ratio, p.max_ratio));
-    check_inside(t, "fallback_ratio", p.fallback_ratio, p.min_ratio, p.max_ratio,
-                 quantity::dimensionless);
+    read_flow_paced(t, {p.min_ratio, p.max_ratio, p.pump_min_m3_per_d, p.pump_max_m3_per_d,
+                        p.max_change_per_hour, p.fallback_ratio},
+                    5.0);
     p.max_solids_loading_kg_per_m2_d =
         t.quantity("max_solids_loading", quantity::solids_flux, 1.0, 2000.0, need::optional)
             .value_or(p.max_solids_loading_kg_per_m2_d);

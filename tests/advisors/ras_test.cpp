@@ -137,6 +137,19 @@ TEST(RasAdvisor, HighBlanketAddsRas) {
     EXPECT_LT(settle(params(), in, 6.0).out.value, 0.5);
 }
 
+TEST(RasAdvisor, ABadBlanketReadingFreezesTheTrim) {
+    ras_inputs in = inputs(0.0);
+    in.blanket = good(1.6, 0.0);
+    ras_result r = settle(params(), in, 6.0);
+    const double trim = *r.out.figure_value("blanket_trim");
+    EXPECT_GT(trim, 0.06);
+    in.blanket.quality = signal_quality::bad;
+    r = step_ras(params(), in, r.state, 6 * 3600.0 + 300.0);
+    EXPECT_EQ(r.out.quality, advice_quality::good);
+    EXPECT_TRUE(r.out.reasons.has(reason::optional_input_bad));
+    EXPECT_DOUBLE_EQ(*r.out.figure_value("blanket_trim"), trim);
+}
+
 TEST(RasAdvisor, ClarifierLimitsTheHighestRas) {
     ras_params p = params();
     p.max_solids_loading_kg_per_m2_d = 6.0 * 24.0; // 6 kg/(m2 h)

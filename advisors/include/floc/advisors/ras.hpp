@@ -63,6 +63,7 @@ struct ras_inputs {
 struct ras_state {
     output_memory out;
     pi_memory trim;
+    double last_trim = 0.0; // the trim of the last good blanket reading (kept while it is bad)
 };
 
 struct ras_result {
