@@ -2,11 +2,17 @@
 #include "loader.hpp"
 
 #include <algorithm>
+#include <cmath>
 #include <limits>
 
 namespace floc::config::detail {
 namespace {
 
+using advisors::aeration_mode;
+using advisors::nitrifier_kinetics;
+using advisors::ras_method;
+using advisors::svi_correlation;
+using advisors::waste_mode;
 using units::quantity;
 constexpr double inf = std::numeric_limits<double>::infinity();
 
@@ -58,6 +64,28 @@ void read_pump_limits(table_reader& t, double& min_flow, double& max_flow) {
     }
 }
 
+// The output keys of an advisor that advises a multiple of the influent flow (recycle, RAS).
+struct flow_paced_output {
+    double& min_ratio;
+    double& max_ratio;
+    double& pump_min_m3_per_d;
+    double& pump_max_m3_per_d;
+    double& max_change_per_hour;
+    double& fallback_ratio;
+};
+
+// `ratio_limits` (up to `upper`), `pump_limits`, `max_change_per_hour`, `fallback_ratio`.
+void read_flow_paced(table_reader& t, flow_paced_output o, double upper) {
+    read_ratio_limits(t, o.min_ratio, o.max_ratio, upper);
+    read_pump_limits(t, o.pump_min_m3_per_d, o.pump_max_m3_per_d);
+    o.max_change_per_hour = t.number("max_change_per_hour", 0.01, upper, need::optional)
+                                .value_or(o.max_change_per_hour);
+    o.fallback_ratio = t.number("fallback_ratio", 0.0, upper, need::optional)
+                           .value_or(std::clamp(o.fallback_ratio, o.min_ratio, o.max_ratio));
+    check_inside(t, "fallback_ratio", o.fallback_ratio, o.min_ratio, o.max_ratio,
+                 quantity::dimensionless);
+}
+
 // "HH:MM" -> minute of the day.
 std::optional<std::uint32_t> read_clock_time(table_reader& t, std::string_view key) {
     const std::optional<std::string> s = t.string(key, need::optional);
@@ -78,9 +106,33 @@ std::optional<std::uint32_t> read_clock_time(table_reader& t, std::string_view k
     return std::nullopt;
 }
 
+// The volumes the waste advisor needs: every zone of the train, its aerated zones, and its
+// clarifiers (area x side water depth).
+void read_train_volumes(const loader& l, const std::string& train, advisors::waste_params& p) {
+    p.system_volume_m3 = 0.0;
+    p.aerobic_volume_m3 = 0.0;
+    p.clarifier_volume_m3 = 0.0;
+    for (const zone& z : l.cfg.zones) {
+        if (z.train == train) {
+            p.system_volume_m3 += z.volume_m3;
+            if (z.kind == zone_kind::aerobic) {
+                p.aerobic_volume_m3 += z.volume_m3;
+            }
+        }
+    }
+    for (const clarifier& c : l.cfg.clarifiers) {
+        if (c.train == train) {
+            p.clarifier_volume_m3 += c.area_m2 * c.side_water_depth_m;
+        }
+    }
+}
+
 void read_aeration(loader& l, table_reader& t, std::map<std::string, source_pos, std::less<>>& seen) {
     aeration_advisor a;
     a.common = l.common(t);
+    advisors::aeration_params& p = a.params;
+    p.hold_for_s = a.common.hold_for_s;
+    p.text_units = l.cfg.display.system;
     if (const std::optional<std::string> zone_name = t.string("zone", need::required)) {
         const zone* z = l.cfg.find_zone(*zone_name);
         if (z == nullptr) {
@@ -110,45 +162,54 @@ void read_aeration(loader& l, table_reader& t, std::map<std::string, source_pos,
     a.flow = l.signal(t, "flow", need::required, signal_source::tag_only, quantity::flow);
     a.temperature = l.signal(t, "temperature", need::optional, signal_source::tag_or_lab,
                              quantity::temperature);
-    a.mode = t.choice<aeration_mode>("mode",
+    a.setpoint = l.signal(t, "setpoint", need::optional, signal_source::tag_only,
+                          quantity::concentration);
+    p.mode = t.choice<aeration_mode>("mode",
                                      {{"auto", aeration_mode::automatic},
                                       {"ammonia", aeration_mode::ammonia},
                                       {"rules", aeration_mode::rules}},
                                      need::optional)
                  .value_or(aeration_mode::automatic);
-    if (a.mode == aeration_mode::ammonia && !t.has("ammonia")) {
+    if (p.mode == aeration_mode::ammonia && !t.has("ammonia")) {
         t.diags().error(t.pos_of("mode"), t.path_of("mode"), "mode \"ammonia\" without an ammonia tag",
                         "an `ammonia` key naming the ammonia probe, or mode \"rules\"");
     }
-    if (a.mode == aeration_mode::rules && !t.has("nitrate")) {
+    if (p.mode == aeration_mode::rules && !t.has("nitrate")) {
         t.diags().error(t.pos_of("mode"), t.path_of("mode"), "mode \"rules\" without a nitrate tag",
                         "a `nitrate` key naming the aerobic-zone nitrate probe");
     }
-    if (a.mode == aeration_mode::automatic && !t.has("ammonia") && !t.has("nitrate")) {
+    if (p.mode == aeration_mode::automatic && !t.has("ammonia") && !t.has("nitrate")) {
         t.diags().error(t.pos(), t.path(), "an aeration advisor with neither ammonia nor nitrate",
                         "an `ammonia` tag (ammonia cascade) or a `nitrate` tag (nitrate/DO rules)");
     }
     if (const auto limits = t.quantity_range("limits", quantity::concentration, need::optional)) {
-        a.min_g_per_m3 = limits->first;
-        a.max_g_per_m3 = limits->second;
-        if (a.min_g_per_m3 < 0.0 || a.max_g_per_m3 > 8.0) {
+        p.min_g_per_m3 = limits->first;
+        p.max_g_per_m3 = limits->second;
+        if (p.min_g_per_m3 < 0.0 || p.max_g_per_m3 > 8.0) {
             t.diags().error(t.pos_of("limits"), t.path_of("limits"),
-                            "DO limits " + units::format(a.min_g_per_m3, units::canonical_unit(quantity::concentration)) +
-                                " to " + units::format(a.max_g_per_m3, units::canonical_unit(quantity::concentration)),
+                            "DO limits " + units::format(p.min_g_per_m3, units::canonical_unit(quantity::concentration)) +
+                                " to " + units::format(p.max_g_per_m3, units::canonical_unit(quantity::concentration)),
                             "DO limits within 0 to 8 mg/L");
         }
     }
-    a.max_change_per_hour_g_per_m3 =
+    p.max_change_per_hour_g_per_m3 =
         t.quantity("max_change_per_hour", quantity::concentration, 0.01, 8.0, need::optional, nullptr,
                    measure::difference)
-            .value_or(a.max_change_per_hour_g_per_m3);
-    a.fallback_g_per_m3 = t.quantity("fallback", quantity::concentration, 0.0, 8.0, need::optional)
-                              .value_or(std::clamp(a.fallback_g_per_m3, a.min_g_per_m3, a.max_g_per_m3));
-    check_inside(t, "fallback", a.fallback_g_per_m3, a.min_g_per_m3, a.max_g_per_m3,
+            .value_or(p.max_change_per_hour_g_per_m3);
+    p.fallback_g_per_m3 = t.quantity("fallback", quantity::concentration, 0.0, 8.0, need::optional)
+                              .value_or(std::clamp(p.fallback_g_per_m3, p.min_g_per_m3, p.max_g_per_m3));
+    check_inside(t, "fallback", p.fallback_g_per_m3, p.min_g_per_m3, p.max_g_per_m3,
+                 quantity::concentration);
+    p.cold_below_degC = t.quantity("cold_below", quantity::temperature, -5.0, 40.0, need::optional)
+                            .value_or(p.cold_below_degC);
+    p.cold_minimum_g_per_m3 =
+        t.quantity("cold_minimum", quantity::concentration, 0.0, 8.0, need::optional)
+            .value_or(std::clamp(p.cold_minimum_g_per_m3, p.min_g_per_m3, p.max_g_per_m3));
+    check_inside(t, "cold_minimum", p.cold_minimum_g_per_m3, p.min_g_per_m3, p.max_g_per_m3,
                  quantity::concentration);
 
     t.table("ammonia_loop", need::optional, [&](table_reader& s) {
-        ammonia_loop_config& c = a.ammonia_loop;
+        advisors::ammonia_loop_params& c = p.ammonia_loop;
         c.target_g_per_m3 = s.quantity("target", quantity::concentration, 0.0, 20.0, need::optional)
                                 .value_or(c.target_g_per_m3);
         c.gain = s.number("gain", 0.0, 20.0, need::optional).value_or(c.gain);
@@ -161,14 +222,14 @@ void read_aeration(loader& l, table_reader& t, std::map<std::string, source_pos,
                 .value_or(c.feedforward_gain_g_per_m3);
     });
     t.table("rules", need::optional, [&](table_reader& s) {
-        aeration_rules_config& c = a.rules;
+        advisors::aeration_rules_params& c = p.rules;
         c.nitrate_window_s = s.quantity("nitrate_window", quantity::duration, 600.0, 86400.0,
                                         need::optional)
                                  .value_or(c.nitrate_window_s);
-        c.nitrate_slope_g_per_m3_per_h =
+        c.nitrate_trend_g_per_m3_per_h =
             s.quantity("nitrate_trend_per_hour", quantity::concentration, 0.01, 20.0,
                        need::optional, nullptr, measure::difference)
-                .value_or(c.nitrate_slope_g_per_m3_per_h);
+                .value_or(c.nitrate_trend_g_per_m3_per_h);
         c.high_flow_ratio = s.number("high_flow_ratio", 1.0, 5.0, need::optional).value_or(c.high_flow_ratio);
         c.low_flow_ratio = s.number("low_flow_ratio", 0.0, 1.0, need::optional).value_or(c.low_flow_ratio);
         c.residual_high_g_per_m3 =
@@ -186,6 +247,9 @@ void read_aeration(loader& l, table_reader& t, std::map<std::string, source_pos,
 void read_recycle(loader& l, table_reader& t, std::map<std::string, source_pos, std::less<>>& seen) {
     recycle_advisor r;
     r.common = l.common(t);
+    advisors::recycle_params& p = r.params;
+    p.hold_for_s = r.common.hold_for_s;
+    p.text_units = l.cfg.display.system;
     const std::optional<std::string> train = l.train(t, "train", need::required);
     if (claim_once(l, seen, t, "train", train, "[[recycle]] advisor's train")) {
         r.train = *train;
@@ -200,25 +264,25 @@ void read_recycle(loader& l, table_reader& t, std::map<std::string, source_pos, 
     }
     r.nitrate = l.signal(t, "nitrate", need::required, signal_source::tag_only, quantity::concentration);
     r.flow = l.signal(t, "flow", need::required, signal_source::tag_only, quantity::flow);
-    r.target_g_per_m3 = t.quantity("target", quantity::concentration, 0.0, 20.0, need::optional)
-                            .value_or(r.target_g_per_m3);
-    r.gain_per_g_per_m3 = t.number("gain", 0.0, 20.0, need::optional).value_or(r.gain_per_g_per_m3);
-    r.integral_time_s = t.quantity("integral_time", quantity::duration, 60.0, 7 * 86400.0, need::optional)
-                            .value_or(r.integral_time_s);
-    read_ratio_limits(t, r.min_ratio, r.max_ratio, 10.0);
-    read_pump_limits(t, r.pump_min_m3_per_d, r.pump_max_m3_per_d);
-    r.max_change_per_hour = t.number("max_change_per_hour", 0.01, 10.0, need::optional)
-                                .value_or(r.max_change_per_hour);
-    r.fallback_ratio = t.number("fallback_ratio", 0.0, 10.0, need::optional)
-                           .value_or(std::clamp(r.fallback_ratio, r.min_ratio, r.max_ratio));
-    check_inside(t, "fallback_ratio", r.fallback_ratio, r.min_ratio, r.max_ratio,
-                 quantity::dimensionless);
+    r.recycle_flow = l.signal(t, "recycle_flow", need::optional, signal_source::tag_only, quantity::flow);
+    p.target_g_per_m3 = t.quantity("target", quantity::concentration, 0.0, 20.0, need::optional)
+                            .value_or(p.target_g_per_m3);
+    p.gain_per_g_per_m3 = t.number("gain", 0.0, 20.0, need::optional).value_or(p.gain_per_g_per_m3);
+    p.integral_time_s = t.quantity("integral_time", quantity::duration, 60.0, 7 * 86400.0, need::optional)
+                            .value_or(p.integral_time_s);
+    read_flow_paced(t, {p.min_ratio, p.max_ratio, p.pump_min_m3_per_d, p.pump_max_m3_per_d,
+                        p.max_change_per_hour, p.fallback_ratio},
+                    10.0);
     l.cfg.recycle.push_back(std::move(r));
 }
 
 void read_ras(loader& l, table_reader& t, std::map<std::string, source_pos, std::less<>>& seen) {
     ras_advisor r;
     r.common = l.common(t);
+    advisors::ras_params& p = r.params;
+    p.hold_for_s = r.common.hold_for_s;
+    p.text_units = l.cfg.display.system;
+    p.clarifier_area_m2 = 0.0;
     const std::optional<std::string> train = l.train(t, "train", need::required);
     if (claim_once(l, seen, t, "train", train, "[[ras]] advisor's train")) {
         r.train = *train;
@@ -236,6 +300,7 @@ void read_ras(loader& l, table_reader& t, std::map<std::string, source_pos, std:
                 continue;
             }
             min_depth_m = std::min(min_depth_m, it->side_water_depth_m);
+            p.clarifier_area_m2 += it->area_m2;
             r.clarifiers.push_back(name);
         }
         if (list->empty()) {
@@ -252,73 +317,74 @@ void read_ras(loader& l, table_reader& t, std::map<std::string, source_pos, std:
     r.svi = l.signal(t, "svi", need::optional, signal_source::tag_or_lab,
                      quantity::sludge_volume_index);
     r.blanket = l.signal(t, "blanket", need::optional, signal_source::tag_or_lab, quantity::length);
-    r.method = t.choice<ras_method>("method",
+    p.method = t.choice<ras_method>("method",
                                     {{"auto", ras_method::automatic},
                                      {"mass_balance", ras_method::mass_balance},
                                      {"settleometer", ras_method::settleometer}},
                                     need::optional)
                    .value_or(ras_method::automatic);
-    if (r.method == ras_method::mass_balance && !t.has("ras_solids")) {
+    if (p.method == ras_method::mass_balance && !t.has("ras_solids")) {
         t.diags().error(t.pos_of("method"), t.path_of("method"),
                         "method \"mass_balance\" without ras_solids",
                         "a `ras_solids` key (RAS suspended solids, lab or probe)");
     }
-    if (r.method == ras_method::settleometer && !t.has("sv30")) {
+    if (p.method == ras_method::settleometer && !t.has("sv30")) {
         t.diags().error(t.pos_of("method"), t.path_of("method"), "method \"settleometer\" without sv30",
                         "an `sv30` key (30-minute settled volume, lab entry)");
     }
-    if (r.method == ras_method::automatic && !t.has("ras_solids") && !t.has("sv30")) {
+    if (p.method == ras_method::automatic && !t.has("ras_solids") && !t.has("sv30")) {
         t.diags().error(t.pos(), t.path(), "a RAS advisor with neither ras_solids nor sv30",
                         "`ras_solids` (mass balance) or `sv30` (settleometer), or both");
     }
-    r.correlation = t.choice<svi_correlation>(
+    p.correlation = t.choice<svi_correlation>(
                          "svi_correlation",
                          {{"daigger_1995", svi_correlation::daigger_1995},
                           {"wahlberg_keinath_1988", svi_correlation::wahlberg_keinath_1988}},
                          need::optional)
                         .value_or(svi_correlation::daigger_1995);
     if (const auto band = t.quantity_range("blanket_band", quantity::length, need::optional)) {
-        r.blanket_low_m = band->first;
-        r.blanket_high_m = band->second;
-        if (min_depth_m < inf && r.blanket_high_m >= min_depth_m) {
+        p.blanket_low_m = band->first;
+        p.blanket_high_m = band->second;
+        if (min_depth_m < inf && p.blanket_high_m >= min_depth_m) {
             t.diags().error(t.pos_of("blanket_band"), t.path_of("blanket_band"),
-                            "a band up to " + units::format(r.blanket_high_m, units::canonical_unit(quantity::length)),
+                            "a band up to " + units::format(p.blanket_high_m, units::canonical_unit(quantity::length)),
                             "a band below the side water depth (" +
                                 units::format(min_depth_m, units::canonical_unit(quantity::length)) + ")");
         }
     }
-    r.blanket_gain_per_m = t.number("blanket_gain", 0.0, 10.0, need::optional).value_or(r.blanket_gain_per_m);
-    r.blanket_integral_time_s = t.quantity("blanket_integral_time", quantity::duration, 600.0,
+    p.blanket_gain_per_m = t.number("blanket_gain", 0.0, 10.0, need::optional).value_or(p.blanket_gain_per_m);
+    p.blanket_integral_time_s = t.quantity("blanket_integral_time", quantity::duration, 600.0,
                                            7 * 86400.0, need::optional)
-                                    .value_or(r.blanket_integral_time_s);
-    read_ratio_limits(t, r.min_ratio, r.max_ratio, 5.0);
-    read_pump_limits(t, r.pump_min_m3_per_d, r.pump_max_m3_per_d);
-    r.max_change_per_hour = t.number("max_change_per_hour", 0.01, 5.0, need::optional)
-                                .value_or(r.max_change_per_hour);
-    r.fallback_ratio = t.number("fallback_ratio", 0.0, 5.0, need::optional)
-                           .value_or(std::clamp(r.fallback_ratio, r.min_ratio, r.max_ratio));
-    check_inside(t, "fallback_ratio", r.fallback_ratio, r.min_ratio, r.max_ratio,
-                 quantity::dimensionless);
+                                    .value_or(p.blanket_integral_time_s);
+    read_flow_paced(t, {p.min_ratio, p.max_ratio, p.pump_min_m3_per_d, p.pump_max_m3_per_d,
+                        p.max_change_per_hour, p.fallback_ratio},
+                    5.0);
+    p.max_solids_loading_kg_per_m2_d =
+        t.quantity("max_solids_loading", quantity::solids_flux, 1.0, 2000.0, need::optional)
+            .value_or(p.max_solids_loading_kg_per_m2_d);
     l.cfg.ras.push_back(std::move(r));
 }
 
 void read_waste(loader& l, table_reader& t, std::map<std::string, source_pos, std::less<>>& seen) {
     waste_advisor w;
-    w.common = l.common(t, false);
-    w.common.period_s = 86400.0;  // once a day at `compute_at`, plus on demand
+    w.common = l.common(t);  // `period`: how often it samples; the advice changes once a day
+    advisors::waste_params& p = w.params;
+    p.hold_for_s = w.common.hold_for_s;
+    p.text_units = l.cfg.display.system;
     const std::optional<std::string> train = l.train(t, "train", need::required);
     if (claim_once(l, seen, t, "train", train, "[[waste]] advisor's train")) {
         w.train = *train;
+        read_train_volumes(l, *train, p);
     }
-    w.mode = t.choice<waste_mode>("mode", {{"srt", waste_mode::srt}, {"mlss", waste_mode::mlss}},
+    p.mode = t.choice<waste_mode>("mode", {{"srt", waste_mode::srt}, {"mlss", waste_mode::mlss}},
                                   need::optional)
                  .value_or(waste_mode::srt);
-    w.target_srt_s = t.quantity("target_srt", quantity::duration, 86400.0, 100 * 86400.0,
-                                w.mode == waste_mode::srt ? need::required : need::optional)
-                         .value_or(w.target_srt_s);
-    w.target_mlss_g_per_m3 = t.quantity("target_mlss", quantity::concentration, 100.0, 15000.0,
-                                        w.mode == waste_mode::mlss ? need::required : need::optional)
-                                 .value_or(w.target_mlss_g_per_m3);
+    p.target_srt_s = t.quantity("target_srt", quantity::duration, 86400.0, 100 * 86400.0,
+                                p.mode == waste_mode::srt ? need::required : need::optional)
+                         .value_or(p.target_srt_s);
+    p.target_mlss_g_per_m3 = t.quantity("target_mlss", quantity::concentration, 100.0, 15000.0,
+                                        p.mode == waste_mode::mlss ? need::required : need::optional)
+                                 .value_or(p.target_mlss_g_per_m3);
     w.mlss = l.signal(t, "mlss", need::required, signal_source::tag_or_lab, quantity::concentration);
     w.was_solids = l.signal(t, "was_solids", need::required, signal_source::tag_or_lab,
                             quantity::concentration);
@@ -328,27 +394,49 @@ void read_waste(loader& l, table_reader& t, std::map<std::string, source_pos, st
     w.was_flow = l.signal(t, "was_flow", need::optional, signal_source::tag_only, quantity::flow);
     w.temperature = l.signal(t, "temperature", need::optional, signal_source::tag_or_lab,
                              quantity::temperature);
-    w.bod_load = l.signal(t, "influent_bod", need::optional, signal_source::tag_or_lab,
-                          quantity::concentration);
-    w.averaging_s = t.quantity("averaging", quantity::duration, 86400.0, 30 * 86400.0, need::optional)
-                        .value_or(w.averaging_s);
-    w.max_daily_change = t.number("max_daily_change", 0.01, 1.0, need::optional).value_or(w.max_daily_change);
-    w.compute_at_minute = read_clock_time(t, "compute_at").value_or(w.compute_at_minute);
-    w.include_clarifier_solids =
-        t.boolean("include_clarifier_solids", need::optional).value_or(w.include_clarifier_solids);
-    w.kinetics = t.choice<nitrifier_kinetics>("nitrifier_kinetics",
-                                              {{"metcalf_eddy_5th", nitrifier_kinetics::metcalf_eddy_5th},
-                                               {"metcalf_eddy_4th", nitrifier_kinetics::metcalf_eddy_4th}},
-                                              need::optional)
-                     .value_or(w.kinetics);
-    w.srt_safety_factor = t.number("srt_safety_factor", 1.0, 4.0, need::optional).value_or(w.srt_safety_factor);
-    if (const auto r = t.quantity_range("waste_limits", quantity::flow, need::required)) {
-        w.min_waste_m3_per_d = r->first;
-        w.max_waste_m3_per_d = r->second;
+    w.influent_bod = l.signal(t, "influent_bod", need::optional, signal_source::tag_or_lab,
+                              quantity::concentration);
+    if (const auto averaging = t.quantity("averaging", quantity::duration, 86400.0, 30 * 86400.0,
+                                          need::optional)) {
+        const double days = std::round(*averaging / 86400.0);
+        if (std::abs(*averaging - days * 86400.0) > 1.0) {
+            t.diags().error(t.pos_of("averaging"), t.path_of("averaging"),
+                            units::format(*averaging, *units::find_unit("h")),
+                            "a whole number of days from 1 d to 30 d");
+        } else {
+            p.averaging_days = static_cast<std::uint32_t>(days);
+        }
     }
-    w.fallback_m3_per_d = t.quantity("fallback", quantity::flow, 0.0, 1e7, need::optional)
-                              .value_or(w.min_waste_m3_per_d);
-    check_inside(t, "fallback", w.fallback_m3_per_d, w.min_waste_m3_per_d, w.max_waste_m3_per_d,
+    p.max_daily_change = t.number("max_daily_change", 0.01, 1.0, need::optional).value_or(p.max_daily_change);
+    p.compute_at_minute = read_clock_time(t, "compute_at").value_or(p.compute_at_minute);
+    p.include_clarifier_solids =
+        t.boolean("include_clarifier_solids", need::optional).value_or(p.include_clarifier_solids);
+    p.nitrifiers.kinetics =
+        t.choice<nitrifier_kinetics>("nitrifier_kinetics",
+                                     {{"metcalf_eddy_5th", nitrifier_kinetics::metcalf_eddy_5th},
+                                      {"metcalf_eddy_4th", nitrifier_kinetics::metcalf_eddy_4th}},
+                                     need::optional)
+            .value_or(p.nitrifiers.kinetics);
+    p.nitrifiers.safety_factor =
+        t.number("srt_safety_factor", 1.0, 4.0, need::optional).value_or(p.nitrifiers.safety_factor);
+    p.nitrifiers.ammonia_g_per_m3 =
+        t.quantity("nitrifier_ammonia", quantity::concentration, 0.05, 20.0, need::optional)
+            .value_or(p.nitrifiers.ammonia_g_per_m3);
+    p.nitrifiers.oxygen_g_per_m3 = t.quantity("nitrifier_do", quantity::concentration, 0.1, 8.0, need::optional)
+                                       .value_or(p.nitrifiers.oxygen_g_per_m3);
+    p.mlss_horizon_s = t.quantity("mlss_horizon", quantity::duration, 3600.0, 30 * 86400.0, need::optional)
+                           .value_or(p.mlss_horizon_s);
+    p.mlss_integral_time_s = t.quantity("mlss_integral_time", quantity::duration, 86400.0,
+                                        100 * 86400.0, need::optional)
+                                 .value_or(p.mlss_integral_time_s);
+    p.mlvss_fraction = t.number("mlvss_fraction", 0.3, 1.0, need::optional).value_or(p.mlvss_fraction);
+    if (const auto r = t.quantity_range("waste_limits", quantity::flow, need::required)) {
+        p.min_waste_m3_per_d = r->first;
+        p.max_waste_m3_per_d = r->second;
+    }
+    p.fallback_m3_per_d = t.quantity("fallback", quantity::flow, 0.0, 1e7, need::optional)
+                              .value_or(p.min_waste_m3_per_d);
+    check_inside(t, "fallback", p.fallback_m3_per_d, p.min_waste_m3_per_d, p.max_waste_m3_per_d,
                  quantity::flow);
     l.cfg.waste.push_back(std::move(w));
 }

@@ -1,4 +1,5 @@
 // flocd: the floc advisory daemon.
+#include "calc.hpp"
 #include "config_summary.hpp"
 #include "exit_codes.hpp"
 #include "logging.hpp"
@@ -17,6 +18,7 @@
 #include <span>
 #include <string>
 #include <string_view>
+#include <vector>
 
 #ifndef FLOC_VERSION
 #define FLOC_VERSION "0.0.0"
@@ -36,6 +38,11 @@ Usage:
   flocd --check-config FILE            validate FILE, print a short summary, exit
   flocd [--config FILE] --register-map [--format md|csv]
                                        print the advisory register map for the HMI integrator
+  flocd calc [--units si|us] ADVISOR key=value ...
+                                       run one advisor on given inputs and print the advice, its
+                                       explanation and figures (do, recycle, ras, state-point,
+                                       was, min-srt); 'flocd calc --help' lists them, 'flocd calc
+                                       ADVISOR --help' their keys
   flocd --help                         this text
   flocd --version                      version
 
@@ -50,9 +57,9 @@ CAUTION: floc is advisory only. A licensed operator decides every set point; loc
 permits, codes and plant procedures prevail over any advice. Never point the simulator
 (flocsim) or the test suite at a real plant network.
 
-Exit codes: 0 ok / config valid, 64 bad command line, 66 file unreadable, 69 a PLC did not
-answer (--once), 70 internal error, 71 a socket could not be opened, 73 a state or journal
-directory could not be created, 78 config invalid.
+Exit codes: 0 ok / config valid, 64 bad command line, 65 bad calc value, 66 file unreadable,
+69 a PLC did not answer (--once), 70 internal error, 71 a socket could not be opened,
+73 a state or journal directory could not be created, 78 config invalid.
 The config reference is config/README.md in the source tree.
 )";
 
@@ -139,6 +146,10 @@ int run_service(const options& o) {
 }
 
 int run(std::span<char*> args) {
+    if (args.size() >= 2 && std::string_view{args[1]} == "calc") {
+        const std::vector<std::string_view> rest(args.begin() + 2, args.end());
+        return app::run_calc(rest, std::cout, std::cerr);
+    }
     options o;
     for (std::size_t i = 1; i < args.size(); ++i) {
         const std::string_view a = args[i];

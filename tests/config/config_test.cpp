@@ -93,14 +93,14 @@ TEST(Examples, SiAndUsVariantsDescribeTheSamePlant) {
     }
     ASSERT_EQ(a.ras.size(), b.ras.size());
     for (std::size_t i = 0; i < a.ras.size(); ++i) {
-        EXPECT_TRUE(near(a.ras[i].pump_max_m3_per_d, b.ras[i].pump_max_m3_per_d))
-            << a.ras[i].pump_max_m3_per_d << " vs " << b.ras[i].pump_max_m3_per_d;
-        EXPECT_TRUE(near(a.ras[i].blanket_high_m, b.ras[i].blanket_high_m));
+        EXPECT_TRUE(near(a.ras[i].params.pump_max_m3_per_d, b.ras[i].params.pump_max_m3_per_d))
+            << a.ras[i].params.pump_max_m3_per_d << " vs " << b.ras[i].params.pump_max_m3_per_d;
+        EXPECT_TRUE(near(a.ras[i].params.blanket_high_m, b.ras[i].params.blanket_high_m));
     }
     ASSERT_EQ(a.waste.size(), b.waste.size());
     for (std::size_t i = 0; i < a.waste.size(); ++i) {
-        EXPECT_TRUE(near(a.waste[i].max_waste_m3_per_d, b.waste[i].max_waste_m3_per_d));
-        EXPECT_TRUE(near(a.waste[i].fallback_m3_per_d, b.waste[i].fallback_m3_per_d));
+        EXPECT_TRUE(near(a.waste[i].params.max_waste_m3_per_d, b.waste[i].params.max_waste_m3_per_d));
+        EXPECT_TRUE(near(a.waste[i].params.fallback_m3_per_d, b.waste[i].params.fallback_m3_per_d));
     }
     // Tag ranges in degF are held in degC: 32..95 degF = 0..35 degC.
     const auto* t = b.find_tag("a_temperature");
@@ -126,10 +126,10 @@ TEST(Examples, ReferencesResolveToTheRightThings) {
     EXPECT_EQ(cfg.tags.at(ras.blanket.index).name, "a_blanket");
     EXPECT_EQ(cfg.clock.source, floc::config::clock_source::plc_tag);
     EXPECT_EQ(cfg.tags.at(cfg.clock.tag.index).name, "plant_time");
-    EXPECT_EQ(cfg.waste.at(0).compute_at_minute, 7U * 60U + 30U);
-    EXPECT_DOUBLE_EQ(cfg.waste.at(0).target_srt_s, 12.0 * 86400.0);
+    EXPECT_EQ(cfg.waste.at(0).params.compute_at_minute, 7U * 60U + 30U);
+    EXPECT_DOUBLE_EQ(cfg.waste.at(0).params.target_srt_s, 12.0 * 86400.0);
     // 1500 m3/h pump limit held as m3/d
-    EXPECT_DOUBLE_EQ(cfg.recycle.at(0).pump_max_m3_per_d, 36000.0);
+    EXPECT_DOUBLE_EQ(cfg.recycle.at(0).params.pump_max_m3_per_d, 36000.0);
     // The register blocks do not overlap and fit.
     const auto blocks = floc::config::register_blocks(cfg);
     for (std::size_t i = 0; i < blocks.size(); ++i) {
@@ -137,6 +137,43 @@ TEST(Examples, ReferencesResolveToTheRightThings) {
             EXPECT_FALSE(blocks.at(i).overlaps(blocks.at(j)));
         }
     }
+}
+
+// The advisors' parameters are complete after loading: the plant geometry they need, the hold
+// time and the text units are filled in from the rest of the file.
+TEST(Examples, AdvisorParametersCarryThePlantGeometry) {
+    const load_result si = load_file((source_dir / "config/examples/marrowby-si.toml").string());
+    const load_result us = load_file((source_dir / "config/examples/marrowby-us.toml").string());
+    ASSERT_TRUE(si.ok()) << all_messages(si);
+    ASSERT_TRUE(us.ok()) << all_messages(us);
+    const auto& cfg = *si.config;
+    const auto& ras = cfg.ras.at(0).params;
+    EXPECT_DOUBLE_EQ(ras.clarifier_area_m2, 450.0);
+    EXPECT_DOUBLE_EQ(ras.max_solids_loading_kg_per_m2_d, 8.0 * 24.0);
+    EXPECT_EQ(ras.correlation, floc::advisors::svi_correlation::daigger_1995);
+    const auto& waste = cfg.waste.at(0).params;
+    EXPECT_DOUBLE_EQ(waste.system_volume_m3, 2700.0);  // 700 anoxic + 2 x 1000 aerobic
+    EXPECT_DOUBLE_EQ(waste.aerobic_volume_m3, 2000.0);
+    EXPECT_DOUBLE_EQ(waste.clarifier_volume_m3, 450.0 * 4.0);
+    EXPECT_EQ(waste.averaging_days, 7U);
+    EXPECT_DOUBLE_EQ(waste.hold_for_s, 2.0 * 86400.0);
+    EXPECT_DOUBLE_EQ(cfg.waste.at(0).common.period_s, 900.0);
+    EXPECT_DOUBLE_EQ(waste.nitrifiers.safety_factor, 1.5);
+    const auto& aeration = cfg.aeration.at(0).params;
+    EXPECT_EQ(aeration.mode, floc::advisors::aeration_mode::automatic);
+    EXPECT_DOUBLE_EQ(aeration.hold_for_s, 1800.0);
+    EXPECT_DOUBLE_EQ(aeration.cold_minimum_g_per_m3, 1.0);
+    EXPECT_DOUBLE_EQ(aeration.ammonia_loop.integral_time_s, 2400.0);
+    EXPECT_EQ(cfg.aeration.at(2).params.mode, floc::advisors::aeration_mode::rules);
+    EXPECT_EQ(aeration.text_units, floc::units::unit_system::si);
+    EXPECT_EQ(us.config->aeration.at(0).params.text_units, floc::units::unit_system::us_customary);
+    // The US file says the same in its own units.
+    const auto near = [](double x, double y) { return std::abs(x - y) <= 0.005 * std::max(std::abs(x), 1e-9); };
+    EXPECT_TRUE(near(us.config->aeration.at(0).params.cold_below_degC, aeration.cold_below_degC));
+    EXPECT_TRUE(near(us.config->ras.at(0).params.max_solids_loading_kg_per_m2_d, ras.max_solids_loading_kg_per_m2_d));
+    EXPECT_TRUE(near(us.config->ras.at(0).params.clarifier_area_m2, ras.clarifier_area_m2));
+    EXPECT_TRUE(near(us.config->waste.at(0).params.system_volume_m3, waste.system_volume_m3));
+    EXPECT_TRUE(near(us.config->recycle.at(0).params.pump_max_m3_per_d, cfg.recycle.at(0).params.pump_max_m3_per_d));
 }
 
 // --- broken configs ----------------------------------------------------------------------------

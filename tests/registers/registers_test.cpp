@@ -73,23 +73,26 @@ TEST(RegisterImage, AdviceInDisplayUnitsAsInt16AndFloat) {
     const std::size_t slot = 6;
     ASSERT_EQ(map.advice.at(slot).kind, registers::advisor_kind::ras);
     registers::published_advice a;
-    a.value = 5450.992969;  // m3/d = 1000 gpm
-    a.min = 1199.2;
-    a.max = 10793.0;
+    a.value = 0.6;  // RAS ratio
+    a.min = 0.3;
+    a.max = 1.2;
     a.quality = 0;
-    a.reasons = {3, 7, 0, 0};
+    a.reasons = {60, 64, 0, 0};
     a.age_s = 42.0;
-    a.figures = {0.6, 10000.0, 0.25, 20.0, 90.0, 0.5};
+    a.figures = {5450.992969 /* m3/d = 1000 gpm */, 10000.0, 0.25, 20.0, 90.0, 0.5};
     img.put_advice(slot, a);
     const std::uint16_t b = map.advice_base(slot);
-    EXPECT_NEAR(f32_at(img, b + advice_offset::value, cfg.hmi.float_order), 1000.0F, 0.01F);
-    const double scale = map.advice.at(slot).int16_scale;
-    EXPECT_EQ(static_cast<std::int16_t>(img.at(b + advice_offset::value_int16)), static_cast<std::int16_t>(std::lround(1000.0 * scale)));
-    EXPECT_EQ(img.at(b + advice_offset::reason_1), 3);
-    EXPECT_EQ(img.at(b + advice_offset::reason_1 + 1), 7);
+    EXPECT_FLOAT_EQ(f32_at(img, b + advice_offset::value, cfg.hmi.float_order), 0.6F);
+    EXPECT_EQ(map.advice.at(slot).int16_scale, 1000.0);  // ratios up to 1.2
+    EXPECT_EQ(static_cast<std::int16_t>(img.at(b + advice_offset::value_int16)), 600);
+    EXPECT_EQ(static_cast<std::int16_t>(img.at(b + advice_offset::max_int16)), 1200);
+    EXPECT_EQ(img.at(b + advice_offset::reason_1), 60);
+    EXPECT_EQ(img.at(b + advice_offset::reason_1 + 1), 64);
     EXPECT_EQ(img.at(b + advice_offset::age_s), 42);
     EXPECT_EQ(img.at(b + advice_offset::kind), 3);
-    // blanket figure: 0.5 m in ft
+    EXPECT_EQ(static_cast<std::int16_t>(img.at(b + advice_offset::scale_exponent)), 3);
+    // figures in display units: RAS flow in gpm, blanket in ft
+    EXPECT_NEAR(f32_at(img, b + advice_offset::figures, cfg.hmi.float_order), 1000.0F, 0.01F);
     EXPECT_NEAR(f32_at(img, b + advice_offset::figures + 10, cfg.hmi.float_order), 0.5F / 0.3048F, 1e-4F);
 }
 

@@ -99,9 +99,11 @@ register_map build(const config::plant_config& cfg) {
     builder b{cfg, map};
 
     // --- advice slots, in the order aeration, recycle, RAS, waste --------------------------
+    // The value of each slot is what the advisor advises: a DO set point, a recycle ratio, a RAS
+    // ratio (each with its flow among the figures), a daily waste flow.
     for (const auto& a : cfg.aeration) {
         map.advice.push_back(slot_for(cfg, advisor_kind::aeration, a.zone, quantity::concentration,
-                                      a.min_g_per_m3, a.max_g_per_m3,
+                                      a.params.min_g_per_m3, a.params.max_g_per_m3,
                                       {{{"measured_do", quantity::concentration},
                                         {"ammonia", quantity::concentration},
                                         {"nitrate", quantity::concentration},
@@ -110,9 +112,9 @@ register_map build(const config::plant_config& cfg) {
                                         {"mode", quantity::dimensionless}}}));
     }
     for (const auto& r : cfg.recycle) {
-        map.advice.push_back(slot_for(cfg, advisor_kind::recycle, r.train, quantity::flow,
-                                      r.pump_min_m3_per_d, r.pump_max_m3_per_d,
-                                      {{{"ratio", quantity::dimensionless},
+        map.advice.push_back(slot_for(cfg, advisor_kind::recycle, r.train, quantity::dimensionless,
+                                      r.params.min_ratio, r.params.max_ratio,
+                                      {{{"recycle_flow", quantity::flow},
                                         {"anoxic_nitrate", quantity::concentration},
                                         {"nitrate_target", quantity::concentration},
                                         {"influent_flow", quantity::flow},
@@ -120,9 +122,9 @@ register_map build(const config::plant_config& cfg) {
                                         {}}}));
     }
     for (const auto& r : cfg.ras) {
-        map.advice.push_back(slot_for(cfg, advisor_kind::ras, r.train, quantity::flow,
-                                      r.pump_min_m3_per_d, r.pump_max_m3_per_d,
-                                      {{{"ratio", quantity::dimensionless},
+        map.advice.push_back(slot_for(cfg, advisor_kind::ras, r.train, quantity::dimensionless,
+                                      r.params.min_ratio, r.params.max_ratio,
+                                      {{{"ras_flow", quantity::flow},
                                         {"max_ras_flow", quantity::flow},
                                         {"thickening_margin", quantity::dimensionless},
                                         {"overflow_rate", quantity::velocity},
@@ -131,13 +133,13 @@ register_map build(const config::plant_config& cfg) {
     }
     for (const auto& w : cfg.waste) {
         map.advice.push_back(slot_for(cfg, advisor_kind::waste, w.train, quantity::flow,
-                                      w.min_waste_m3_per_d, w.max_waste_m3_per_d,
-                                      {{{"actual_srt_d", quantity::dimensionless},
-                                        {"target_srt_d", quantity::dimensionless},
+                                      w.params.min_waste_m3_per_d, w.params.max_waste_m3_per_d,
+                                      {{{"srt_actual_d", quantity::dimensionless},
+                                        {"srt_target_d", quantity::dimensionless},
                                         {"min_aerobic_srt_d", quantity::dimensionless},
                                         {"food_to_microorganism_per_d", quantity::dimensionless},
                                         {"mlss", quantity::concentration},
-                                        {"waste_solids", quantity::mass_rate}}}));
+                                        {"wastage", quantity::mass_rate}}}));
     }
 
     // --- status block ---------------------------------------------------------------------

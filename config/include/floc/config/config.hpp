@@ -6,6 +6,10 @@
 // position they came from so that later checks and log lines can point back at the file.
 #pragma once
 
+#include "floc/advisors/aeration.hpp"
+#include "floc/advisors/ras.hpp"
+#include "floc/advisors/recycle.hpp"
+#include "floc/advisors/waste.hpp"
 #include "floc/units.hpp"
 
 #include <array>
@@ -153,31 +157,17 @@ struct signal_ref {
 };
 
 // What every advisor has: its schedule, how long it holds its last good advice on bad input and
-// the safe value it falls back to after that.
+// the safe value it falls back to after that. The loader copies `hold_for_s` into the advisor's
+// parameters (`params.hold_for_s`), which is what the advisor uses.
 struct advisor_common {
     double period_s = 300.0;
     double hold_for_s = 1800.0;
     source_pos at;
 };
 
-enum class aeration_mode : std::uint8_t { automatic, ammonia, rules };
-
-struct ammonia_loop_config {
-    double target_g_per_m3 = 1.0;       // ammonia set point
-    double gain = 0.5;                  // DO change per ammonia error, (g/m3)/(g/m3)
-    double integral_time_s = 2400.0;
-    double feedforward_gain_g_per_m3 = 0.5;  // DO change per unit of (flow / daily mean - 1)
-};
-
-struct aeration_rules_config {
-    double nitrate_window_s = 3600.0;               // trend window
-    double nitrate_slope_g_per_m3_per_h = 0.3;      // |slope| above this counts as a trend
-    double high_flow_ratio = 1.2;                   // flow / daily mean
-    double low_flow_ratio = 0.8;
-    double residual_high_g_per_m3 = 2.5;            // measured DO this far up: air is wasted
-    double step_g_per_m3 = 0.1;                     // change per decision
-    double hysteresis_s = 1800.0;                   // a condition must hold this long
-};
+// Each advisor below is what the config says about one advisor: its schedule, what it advises
+// (zone or train), the signals feeding it, and `params`, the advisor's own parameters from
+// floc/advisors/ with the plant geometry it needs already filled in.
 
 struct aeration_advisor {
     advisor_common common;
@@ -187,33 +177,18 @@ struct aeration_advisor {
     signal_ref nitrate;         // optional
     signal_ref flow;
     signal_ref temperature;     // optional
-    aeration_mode mode = aeration_mode::automatic;
-    double min_g_per_m3 = 0.5;
-    double max_g_per_m3 = 3.0;
-    double max_change_per_hour_g_per_m3 = 0.5;
-    double fallback_g_per_m3 = 2.0;
-    ammonia_loop_config ammonia_loop;
-    aeration_rules_config rules;
+    signal_ref setpoint;        // optional: the DO set point the PLC runs now
+    advisors::aeration_params params;
 };
 
 struct recycle_advisor {
     advisor_common common;
     std::string train;
-    signal_ref nitrate;     // anoxic-zone nitrate
-    signal_ref flow;        // influent flow of the train
-    double target_g_per_m3 = 1.0;
-    double gain_per_g_per_m3 = 0.5;   // change of the recycle ratio per nitrate error
-    double integral_time_s = 3600.0;
-    double min_ratio = 0.5;
-    double max_ratio = 4.0;
-    double pump_min_m3_per_d = 0.0;
-    double pump_max_m3_per_d = 0.0;
-    double max_change_per_hour = 0.5;  // ratio units per hour
-    double fallback_ratio = 2.0;
+    signal_ref nitrate;       // anoxic-zone nitrate
+    signal_ref flow;          // influent flow of the train
+    signal_ref recycle_flow;  // optional: the recycle flow now
+    advisors::recycle_params params;
 };
-
-enum class ras_method : std::uint8_t { automatic, mass_balance, settleometer };
-enum class svi_correlation : std::uint8_t { daigger_1995, wahlberg_keinath_1988 };
 
 struct ras_advisor {
     advisor_common common;
@@ -223,25 +198,11 @@ struct ras_advisor {
     signal_ref ras_flow;      // optional measured RAS flow
     signal_ref mlss;          // tag or lab
     signal_ref ras_solids;    // optional, tag or lab
-    signal_ref sv30;          // optional, lab
-    signal_ref svi;           // optional, lab (or computed from sv30 and mlss)
-    signal_ref blanket;       // optional sludge-blanket depth
-    ras_method method = ras_method::automatic;
-    svi_correlation correlation = svi_correlation::daigger_1995;
-    double blanket_low_m = 0.3;   // target band of blanket depth
-    double blanket_high_m = 0.9;
-    double blanket_gain_per_m = 0.1;  // ratio change per metre outside the band
-    double blanket_integral_time_s = 7200.0;
-    double min_ratio = 0.25;
-    double max_ratio = 1.5;
-    double pump_min_m3_per_d = 0.0;
-    double pump_max_m3_per_d = 0.0;
-    double max_change_per_hour = 0.1;
-    double fallback_ratio = 0.75;
+    signal_ref sv30;          // optional, tag or lab
+    signal_ref svi;           // optional, tag or lab (else from sv30 and mlss)
+    signal_ref blanket;       // optional sludge-blanket height above the floor
+    advisors::ras_params params;  // clarifier_area_m2: the sum of `clarifiers`
 };
-
-enum class waste_mode : std::uint8_t { srt, mlss };
-enum class nitrifier_kinetics : std::uint8_t { metcalf_eddy_5th, metcalf_eddy_4th };
 
 struct waste_advisor {
     advisor_common common;
@@ -252,19 +213,8 @@ struct waste_advisor {
     signal_ref flow;             // influent flow (effluent = influent - waste)
     signal_ref was_flow;         // optional metered waste flow, for the actual SRT
     signal_ref temperature;      // optional; needed for the minimum aerobic SRT
-    signal_ref bod_load;         // optional influent BOD or COD concentration, for F/M
-    waste_mode mode = waste_mode::srt;
-    double target_srt_s = 10.0 * 86400.0;
-    double target_mlss_g_per_m3 = 3000.0;
-    double averaging_s = 7.0 * 86400.0;
-    double max_daily_change = 0.15;      // fraction of yesterday's advice
-    std::uint32_t compute_at_minute = 7 * 60 + 30;  // minute of the day (plant time)
-    bool include_clarifier_solids = false;
-    nitrifier_kinetics kinetics = nitrifier_kinetics::metcalf_eddy_5th;
-    double srt_safety_factor = 1.5;
-    double min_waste_m3_per_d = 0.0;
-    double max_waste_m3_per_d = 0.0;
-    double fallback_m3_per_d = 0.0;
+    signal_ref influent_bod;     // optional influent BOD or COD concentration, for F/M
+    advisors::waste_params params;  // volumes: the train's zones and clarifiers
 };
 
 // --- The advisory Modbus/TCP server -----------------------------------------------------------
