@@ -22,7 +22,8 @@ void set_packed(register_bank& bank, table in, std::size_t address, std::string_
                 std::size_t count) {
     const auto packed = bytes(packed_hex);
     for (std::size_t i = 0; i < count; ++i) {
-        bank.bits(in)[address + i] = static_cast<std::uint8_t>((packed[i / 8] >> (i % 8)) & 1U);
+        bank.bits(in)[address + i] =
+            static_cast<std::uint8_t>((static_cast<unsigned>(packed[i / 8]) >> (i % 8)) & 1U);
     }
 }
 

@@ -93,7 +93,7 @@ std::span<const std::uint16_t> unpack_registers(std::span<const std::uint8_t> by
 std::span<const std::uint8_t> unpack_bits(std::span<const std::uint8_t> packed, std::size_t count,
                                           std::span<std::uint8_t> into) {
     for (std::size_t i = 0; i < count; ++i) {
-        into[i] = static_cast<std::uint8_t>((packed[i / 8] >> (i % 8)) & 1U);
+        into[i] = static_cast<std::uint8_t>((static_cast<unsigned>(packed[i / 8]) >> (i % 8)) & 1U);
     }
     return into.first(count);
 }
