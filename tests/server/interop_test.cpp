@@ -4,10 +4,10 @@
 // decode a captured session without malformed packets or warnings. The function codes and
 // exception codes checked are those of the MODBUS Application Protocol Specification V1.1b3.
 #include "child_process.hpp"
+#include "libmodbus_client.hpp"
 #include "process.hpp"
 
 #include <gtest/gtest.h>
-#include <modbus.h>
 
 #include <unistd.h>
 
@@ -29,6 +29,8 @@ namespace {
 namespace fs = std::filesystem;
 using namespace std::chrono_literals;
 using floc::modbus::test::child_process;
+using floc::modbus::test::libmodbus_connect;
+using floc::modbus::test::modbus_ptr;
 using floc::test::run_process;
 
 const std::string test_server{MODBUS_TEST_SERVER_PATH};
@@ -84,26 +86,6 @@ std::string mbpoll_values(const std::string& out) {
         values += (values.empty() ? "" : " ") + (*it)[1].str() + "=" + (*it)[2].str();
     }
     return values;
-}
-
-struct modbus_closer {
-    void operator()(modbus_t* ctx) const {
-        modbus_close(ctx);
-        modbus_free(ctx);
-    }
-};
-using modbus_ptr = std::unique_ptr<modbus_t, modbus_closer>;
-
-modbus_ptr libmodbus_client(std::uint16_t port) {
-    modbus_ptr ctx{modbus_new_tcp("127.0.0.1", port)}; // unit id 0xFF, libmodbus's TCP default
-    if (ctx) {
-        modbus_set_response_timeout(ctx.get(), 2, 0);
-        modbus_set_error_recovery(ctx.get(), MODBUS_ERROR_RECOVERY_NONE);
-        if (modbus_connect(ctx.get()) != 0) {
-            ctx.reset();
-        }
-    }
-    return ctx;
 }
 
 // What the pymodbus write phase must have seen: the server's fixed bank, its own writes, the
@@ -188,7 +170,7 @@ TEST(Interop, IndependentPeersReadWhatTheOthersWrote) {
 
     // 3. libmodbus (unit id 0xFF) reads everything written so far and writes one more.
     {
-        const modbus_ptr ctx = libmodbus_client(server.port());
+        const modbus_ptr ctx = libmodbus_connect(server.port());
         ASSERT_TRUE(ctx) << "libmodbus could not connect";
         std::array<std::uint16_t, 7> regs{};
         ASSERT_EQ(modbus_read_registers(ctx.get(), 10, 7, regs.data()), 7);
@@ -315,7 +297,7 @@ TEST(Interop, TsharkDecodesACapturedSessionCleanly) {
 
         const auto py = run_process({python, peer_script, port, "write"}, 60s);
         ASSERT_EQ(py.exit_code, 0) << py.out << py.err;
-        const modbus_ptr ctx = libmodbus_client(server.port());
+        const modbus_ptr ctx = libmodbus_connect(server.port());
         ASSERT_TRUE(ctx);
         std::array<std::uint16_t, 4> regs{};
         ASSERT_EQ(modbus_read_registers(ctx.get(), 10, 4, regs.data()), 4);

@@ -1,11 +1,12 @@
 // libmodbus 3.1.6 (Debian 12) as an independent client of the in-process server: every function
 // code it has, its exception mapping, and the fault hooks as a poller built on it sees them.
+#include "libmodbus_client.hpp"
 #include "running_server.hpp"
+#include "test_bank.hpp"
 
 #include "floc/modbus/register_bank.hpp"
 
 #include <gtest/gtest.h>
-#include <modbus.h>
 
 #include <array>
 #include <cerrno>
@@ -15,43 +16,20 @@ namespace {
 
 using namespace floc::modbus;
 using namespace std::chrono_literals;
+using floc::modbus::test::libmodbus_connect;
+using floc::modbus::test::modbus_ptr;
 using floc::modbus::test::running_server;
 
-struct modbus_closer {
-    void operator()(modbus_t* ctx) const {
-        modbus_close(ctx);
-        modbus_free(ctx);
-    }
-};
-using modbus_ptr = std::unique_ptr<modbus_t, modbus_closer>;
-
-// A connected libmodbus context (unit id 1, 2 s response timeout, error recovery off).
+// A connected libmodbus context with unit id 1.
 modbus_ptr connect(std::uint16_t port) {
-    modbus_ptr ctx{modbus_new_tcp("127.0.0.1", port)};
-    if (!ctx) {
-        return ctx;
-    }
-    modbus_set_slave(ctx.get(), 1);
-    modbus_set_response_timeout(ctx.get(), 2, 0);
-    modbus_set_error_recovery(ctx.get(), MODBUS_ERROR_RECOVERY_NONE);
-    if (modbus_connect(ctx.get()) != 0) {
-        ctx.reset();
-    }
-    return ctx;
+    return libmodbus_connect(port, 1);
 }
 
 class Libmodbus : public ::testing::Test {
 protected:
     Libmodbus() {
         bank.protect(table::holding_registers, 90, 10);
-        auto ir = bank.registers(table::input_registers);
-        for (std::size_t i = 0; i < ir.size(); ++i) {
-            ir[i] = static_cast<std::uint16_t>(1000 + i);
-        }
-        auto di = bank.bits(table::discrete_inputs);
-        for (std::size_t i = 0; i < di.size(); ++i) {
-            di[i] = i % 3 == 0 ? 1 : 0;
-        }
+        floc::modbus::test::fill_test_pattern(bank);
         server = std::make_unique<running_server>(bank, server_options{});
         ctx = connect(server->port());
     }
@@ -127,27 +105,14 @@ TEST_F(Libmodbus, FaultsAsAPollerSeesThem) {
     ASSERT_TRUE(ctx);
     std::array<std::uint16_t, 1> out{};
     // Exception 04 on FC 03.
-    server->on_io([](floc::modbus::server& s) {
-        fault_rule fail;
-        fail.kind = fault_kind::exception_reply;
-        fail.function = 0x03;
-        fail.times = 1;
-        s.set_faults({fail});
-        return 0;
-    });
+    server->set_faults({{.kind = fault_kind::exception_reply, .function = 0x03, .times = 1}});
     errno = 0;
     EXPECT_EQ(modbus_read_registers(ctx.get(), 0, 1, out.data()), -1);
     EXPECT_EQ(errno, EMBXSFAIL);
     EXPECT_EQ(modbus_read_registers(ctx.get(), 0, 1, out.data()), 1);
 
     // A wrong transaction id: libmodbus rejects the reply as bad data.
-    server->on_io([](floc::modbus::server& s) {
-        fault_rule wrong;
-        wrong.kind = fault_kind::wrong_transaction_id;
-        wrong.times = 1;
-        s.set_faults({wrong});
-        return 0;
-    });
+    server->set_faults({{.kind = fault_kind::wrong_transaction_id, .times = 1}});
     errno = 0;
     EXPECT_EQ(modbus_read_registers(ctx.get(), 0, 1, out.data()), -1);
     EXPECT_EQ(errno, EMBBADDATA);
@@ -156,14 +121,7 @@ TEST_F(Libmodbus, FaultsAsAPollerSeesThem) {
     modbus_ptr slow = connect(server->port());
     ASSERT_TRUE(slow);
     modbus_set_response_timeout(slow.get(), 0, 200000);
-    server->on_io([](floc::modbus::server& s) {
-        fault_rule late;
-        late.kind = fault_kind::delay_reply;
-        late.delay = 1500ms;
-        late.times = 1;
-        s.set_faults({late});
-        return 0;
-    });
+    server->set_faults({{.kind = fault_kind::delay_reply, .delay = 1500ms, .times = 1}});
     errno = 0;
     EXPECT_EQ(modbus_read_registers(slow.get(), 0, 1, out.data()), -1);
     EXPECT_EQ(errno, ETIMEDOUT);
@@ -171,13 +129,7 @@ TEST_F(Libmodbus, FaultsAsAPollerSeesThem) {
     // A dropped connection.
     modbus_ptr dropped = connect(server->port());
     ASSERT_TRUE(dropped);
-    server->on_io([](floc::modbus::server& s) {
-        fault_rule drop;
-        drop.kind = fault_kind::drop_connection;
-        drop.times = 1;
-        s.set_faults({drop});
-        return 0;
-    });
+    server->set_faults({{.kind = fault_kind::drop_connection, .times = 1}});
     EXPECT_EQ(modbus_read_registers(dropped.get(), 0, 1, out.data()), -1);
     EXPECT_EQ(errno, ECONNRESET); // libmodbus reports a closed peer as a reset
 }

@@ -7,6 +7,8 @@
 // SIGINT, when its standard input closes, or after the time limit (default 120 s; exit 1).
 // On a clean stop it prints, for each client address, the requests it sent by function code.
 // For tests only: it listens on loopback and must never face a plant network.
+#include "test_bank.hpp"
+
 #include "floc/modbus/asio.hpp"
 #include "floc/modbus/register_bank.hpp"
 #include "floc/modbus/server.hpp"
@@ -28,17 +30,10 @@ using namespace floc::modbus;
 
 constexpr std::uint32_t table_size = 200;
 
-// The bank the interop tests expect: input register i = 1000 + i, discrete input i on when
-// i % 3 == 0, holding registers 180..199 and coils 190..199 read-only (exception 02).
+// The bank the interop tests expect: the test pattern, holding registers 180..199 and coils
+// 190..199 read-only (exception 02).
 void fill(register_bank& bank) {
-    auto ir = bank.registers(table::input_registers);
-    for (std::size_t i = 0; i < ir.size(); ++i) {
-        ir[i] = static_cast<std::uint16_t>(1000 + i);
-    }
-    auto di = bank.bits(table::discrete_inputs);
-    for (std::size_t i = 0; i < di.size(); ++i) {
-        di[i] = i % 3 == 0 ? 1 : 0;
-    }
+    floc::modbus::test::fill_test_pattern(bank);
     bank.protect(table::holding_registers, 180, 20);
     bank.protect(table::coils, 190, 10);
 }

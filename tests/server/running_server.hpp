@@ -58,6 +58,13 @@ public:
         return done.get();
     }
 
+    // Replaces the server's fault rules.
+    void set_faults(std::vector<fault_rule> rules) {
+        on_io([&rules](server& s) {
+            s.set_faults(std::move(rules));
+            return 0;
+        });
+    }
     [[nodiscard]] server_statistics statistics() {
         return on_io([](server& s) { return s.statistics(); });
     }

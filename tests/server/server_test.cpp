@@ -427,14 +427,7 @@ TEST(ServerStart, ReportsWhyItCannotListen) {
 
 TEST_F(Server, DelayedReplyKeepsOrderAndOthersAreServed) {
     auto& s = serve();
-    s.on_io([](server& srv) {
-        fault_rule slow;
-        slow.kind = fault_kind::delay_reply;
-        slow.function = 0x03;
-        slow.delay = 300ms;
-        srv.set_faults({slow});
-        return 0;
-    });
+    s.set_faults({{.kind = fault_kind::delay_reply, .function = 0x03, .delay = 300ms}});
     raw_client c{s.port()};
     raw_client other{s.port()};
     std::vector<std::uint8_t> two = adu(1, 1, "03 00 01 00 01");
@@ -456,13 +449,7 @@ TEST_F(Server, DelayedReplyKeepsOrderAndOthersAreServed) {
 
 TEST_F(Server, DropConnectionOnce) {
     auto& s = serve();
-    s.on_io([](server& srv) {
-        fault_rule drop;
-        drop.kind = fault_kind::drop_connection;
-        drop.times = 1;
-        srv.set_faults({drop});
-        return 0;
-    });
+    s.set_faults({{.kind = fault_kind::drop_connection, .times = 1}});
     raw_client c{s.port()};
     ASSERT_TRUE(c.send(adu(1, 1, "03 00 00 00 01")));
     EXPECT_TRUE(c.closed_by_peer());
@@ -473,15 +460,10 @@ TEST_F(Server, DropConnectionOnce) {
 
 TEST_F(Server, ExceptionForAnAddressRange) {
     auto& s = serve();
-    s.on_io([](server& srv) {
-        fault_rule fail;
-        fail.kind = fault_kind::exception_reply;
-        fail.first_address = 100;
-        fail.last_address = 199;
-        fail.exception = exception_code::gateway_target_failed;
-        srv.set_faults({fail});
-        return 0;
-    });
+    s.set_faults({{.kind = fault_kind::exception_reply,
+                   .first_address = 100,
+                   .last_address = 199,
+                   .exception = exception_code::gateway_target_failed}});
     raw_client c{s.port()};
     EXPECT_EQ(ask(c, 1, "03 00 96 00 01"), "83 0B");             // 150
     EXPECT_EQ(ask(c, 2, "03 00 5F 00 02"), "03 04 00 5F 00 60"); // 95..96: outside
@@ -494,34 +476,20 @@ TEST_F(Server, ExceptionForAnAddressRange) {
 
 TEST_F(Server, ExceptionForOneFunctionCode) {
     auto& s = serve();
-    s.on_io([](server& srv) {
-        fault_rule busy;
-        busy.kind = fault_kind::exception_reply;
-        busy.function = 0x06;
-        busy.exception = exception_code::server_device_busy;
-        srv.set_faults({busy});
-        return 0;
-    });
+    s.set_faults({{.kind = fault_kind::exception_reply,
+                   .function = 0x06,
+                   .exception = exception_code::server_device_busy}});
     raw_client c{s.port()};
     EXPECT_EQ(ask(c, 1, "06 00 01 00 09"), "86 06");
     EXPECT_EQ(bank.registers(table::holding_registers)[1], 1); // not written
     EXPECT_EQ(ask(c, 2, "03 00 01 00 01"), "03 02 00 01");
-    s.on_io([](server& srv) {
-        srv.set_faults({});
-        return 0;
-    });
+    s.set_faults({});
     EXPECT_EQ(ask(c, 3, "06 00 01 00 09"), "06 00 01 00 09");
 }
 
 TEST_F(Server, WrongTransactionId) {
     auto& s = serve();
-    s.on_io([](server& srv) {
-        fault_rule wrong;
-        wrong.kind = fault_kind::wrong_transaction_id;
-        wrong.times = 2;
-        srv.set_faults({wrong});
-        return 0;
-    });
+    s.set_faults({{.kind = fault_kind::wrong_transaction_id, .times = 2}});
     raw_client c{s.port()};
     for (const std::uint16_t tid : {std::uint16_t{0x0010}, std::uint16_t{0xFFFF}}) {
         ASSERT_TRUE(c.send(adu(tid, 1, "03 00 01 00 01")));
@@ -539,13 +507,7 @@ TEST_F(Server, BusyWhenTooManyRequestsAreHeld) {
     server_options o;
     o.max_pending = 2;
     auto& s = serve(o);
-    s.on_io([](server& srv) {
-        fault_rule slow;
-        slow.kind = fault_kind::delay_reply;
-        slow.delay = 1s;
-        srv.set_faults({slow});
-        return 0;
-    });
+    s.set_faults({{.kind = fault_kind::delay_reply, .delay = 1s}});
     raw_client c{s.port()};
     std::vector<std::uint8_t> four;
     for (std::uint16_t tid = 1; tid <= 4; ++tid) {

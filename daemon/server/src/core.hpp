@@ -23,7 +23,8 @@ public:
     server_core& operator=(const server_core&) = delete;
 
     std::optional<std::string> start();
-    void stop();
+    // Closes the acceptor and every session; with `report`, each close is an event.
+    void stop(bool report);
 
     // For sessions.
     [[nodiscard]] bool running() const { return running_; }

@@ -98,11 +98,14 @@ std::optional<std::string> server_core::start() {
     return std::nullopt;
 }
 
-void server_core::stop() {
+void server_core::stop(bool report) {
     if (stopped_) {
         return;
     }
     stopped_ = true;
+    if (!report) {
+        options_.on_event = nullptr;  // the owner may be half destroyed
+    }
     running_ = false;
     boost::system::error_code ignored;
     acceptor_.close(ignored);
@@ -221,14 +224,14 @@ server::server(asio::io_context& io, register_space& space, server_options optio
     : core_(std::make_shared<detail::server_core>(io, space, std::move(options))) {}
 
 server::~server() {
-    core_->stop();
+    core_->stop(false);
 }
 
 std::optional<std::string> server::start() {
     return core_->start();
 }
 void server::stop() {
-    core_->stop();
+    core_->stop(true);
 }
 std::uint16_t server::port() const {
     return core_->port();
