@@ -180,13 +180,14 @@ std::size_t mask_write(const mask_write_request& q, register_space& space, const
     }
     value[0] = static_cast<std::uint16_t>((value[0] & q.and_mask) |
                                           (q.or_mask & static_cast<std::uint16_t>(~q.and_mask)));
-    const std::size_t n =
-        answer_write(rep, space.write_registers(q.address, value, who), q.address, q.and_mask);
-    if (n == 5) {
-        put_u16(out, 5, q.or_mask);
-        return 7;
+    if (const refusal no = space.write_registers(q.address, value, who)) {
+        return rep.exception(*no);
     }
-    return n;
+    out[0] = rep.function();
+    put_u16(out, 1, q.address);
+    put_u16(out, 3, q.and_mask);
+    put_u16(out, 5, q.or_mask);
+    return 7;
 }
 
 // FC 23 (AppSpec §6.17): both ranges are checked before anything is written. A trial read proves

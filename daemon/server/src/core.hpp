@@ -27,7 +27,6 @@ public:
     void stop(bool report);
 
     // For sessions.
-    [[nodiscard]] bool running() const { return running_; }
     [[nodiscard]] register_space& space() { return *space_; }
     [[nodiscard]] const server_options& options() const { return options_; }
     [[nodiscard]] fault_plan& faults() { return faults_; }

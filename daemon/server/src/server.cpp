@@ -104,7 +104,7 @@ void server_core::stop(bool report) {
     }
     stopped_ = true;
     if (!report) {
-        options_.on_event = nullptr;  // the owner may be half destroyed
+        options_.on_event = nullptr; // the owner may be half destroyed
     }
     running_ = false;
     boost::system::error_code ignored;

@@ -47,7 +47,8 @@ struct decoded_frame {
     decode_status status = decode_status::need_more;
     frame_action action = frame_action::none;
     frame_error error = frame_error::none;
-    std::size_t size = mbap_size - 1;  // see decode_status
+    std::size_t size = mbap_size - 1;  // complete, discard: the frame's bytes; need_more: the
+                                       // bytes needed in all; close_connection: all given
     mbap_header header;                // valid for complete and discard
     std::span<const std::uint8_t> pdu; // complete: the function code and its data
 };

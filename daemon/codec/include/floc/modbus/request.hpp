@@ -80,6 +80,7 @@ struct device_id_request {
     std::uint8_t object_id = 0; // first object (stream access) or the one object (individual)
 };
 
+// One request of any function code served.
 using request = std::variant<read_bits_request, read_registers_request, write_coil_request,
                              write_register_request, write_coils_request, write_registers_request,
                              mask_write_request, read_write_registers_request, device_id_request>;
@@ -109,6 +110,7 @@ struct request_spans {
     std::size_t count = 0;
 };
 
+// The tables and addresses `r` touches; FC 23 lists its write span first.
 [[nodiscard]] request_spans spans_of(const request& r);
 
 } // namespace floc::modbus

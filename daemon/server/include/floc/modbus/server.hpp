@@ -108,7 +108,7 @@ class server {
 public:
     // `space` must outlive the server.
     server(boost::asio::io_context& io, register_space& space, server_options options);
-    ~server(); // stops
+    ~server(); // stops without reporting events (the owner may be half destroyed)
     server(const server&) = delete;
     server& operator=(const server&) = delete;
 
@@ -122,6 +122,7 @@ public:
     [[nodiscard]] std::uint16_t port() const;
     // Open connections.
     [[nodiscard]] std::size_t connections() const;
+    // Counts since start().
     [[nodiscard]] const server_statistics& statistics() const;
     // Requests by function code for every client address seen, keyed by IPv4 address.
     [[nodiscard]] const std::map<std::uint32_t, client_record>& clients() const;
