@@ -48,6 +48,7 @@ child_process::child_process(const std::vector<std::string>& argv) {
         return;
     }
     std::vector<char*> args;
+    args.reserve(argv.size() + 1);
     for (const std::string& a : argv) {
         args.push_back(const_cast<char*>(a.c_str())); // execv takes char* const[]
     }

@@ -49,9 +49,7 @@ int usage(std::string_view why) {
     return 64;
 }
 
-} // namespace
-
-int main(int argc, char** argv) {
+int run(int argc, char** argv) {
     long limit_s = 120;
     for (int i = 1; i < argc; ++i) {
         const std::string_view arg = argv[i];
@@ -134,4 +132,15 @@ int main(int argc, char** argv) {
         }
     }
     return exit_code;
+}
+
+} // namespace
+
+int main(int argc, char** argv) {
+    try {
+        return run(argc, argv);
+    } catch (const std::exception& e) { // Asio's constructors throw on system errors
+        std::cerr << "modbus_test_server: " << e.what() << "\n";
+        return 70;
+    }
 }

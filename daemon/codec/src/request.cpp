@@ -99,8 +99,8 @@ parse_result parse_write_registers(std::span<const std::uint8_t> pdu) {
     }
     const std::uint16_t count = get_u16(pdu, 3);
     const std::size_t byte_count = pdu[5];
-    if (!in_range(count, max_write_registers) || byte_count != 2U * count ||
-        pdu.size() != 6 + byte_count) {
+    if (!in_range(count, max_write_registers) ||
+        byte_count != 2 * static_cast<std::size_t>(count) || pdu.size() != 6 + byte_count) {
         return refuse(exception_code::illegal_data_value);
     }
     return accept(write_registers_request{get_u16(pdu, 1), count, pdu.subspan(6, byte_count)});
@@ -124,8 +124,8 @@ parse_result parse_read_write(std::span<const std::uint8_t> pdu) {
     const std::uint16_t write_count = get_u16(pdu, 7);
     const std::size_t byte_count = pdu[9];
     if (!in_range(read_count, max_read_registers) ||
-        !in_range(write_count, max_read_write_registers) || byte_count != 2U * write_count ||
-        pdu.size() != 10 + byte_count) {
+        !in_range(write_count, max_read_write_registers) ||
+        byte_count != 2 * static_cast<std::size_t>(write_count) || pdu.size() != 10 + byte_count) {
         return refuse(exception_code::illegal_data_value);
     }
     return accept(read_write_registers_request{get_u16(pdu, 1), read_count, get_u16(pdu, 5),

@@ -1,7 +1,6 @@
 #include "floc/modbus/faults.hpp"
 
 #include <algorithm>
-#include <utility>
 
 namespace floc::modbus {
 
@@ -26,12 +25,12 @@ bool matches(const fault_rule& rule, std::uint8_t function, const request_spans&
 
 } // namespace
 
-void fault_plan::set(std::vector<fault_rule> rules) {
+void fault_plan::set(const std::vector<fault_rule>& rules) {
     rules_.clear();
-    for (fault_rule& r : rules) {
+    for (const fault_rule& r : rules) {
         const std::optional<std::uint32_t> left =
             r.times > 0 ? std::optional<std::uint32_t>{r.times} : std::nullopt;
-        rules_.push_back(active_rule{std::move(r), left});
+        rules_.push_back(active_rule{r, left});
     }
 }
 

@@ -245,8 +245,8 @@ const server_statistics& server::statistics() const {
 const std::map<std::uint32_t, client_record>& server::clients() const {
     return core_->clients();
 }
-void server::set_faults(std::vector<fault_rule> rules) {
-    core_->faults().set(std::move(rules));
+void server::set_faults(const std::vector<fault_rule>& rules) {
+    core_->faults().set(rules);
 }
 std::size_t server::active_faults() const {
     return core_->faults().active();

@@ -63,6 +63,7 @@ struct decoded_frame {
                                        std::span<const std::uint8_t> pdu,
                                        std::span<std::uint8_t> out);
 
+// A short description of `error` for logs ("MBAP length above 254").
 [[nodiscard]] std::string_view to_string(frame_error error);
 
 // A receive buffer for one connection: a socket reads into free_space(), the owner takes the

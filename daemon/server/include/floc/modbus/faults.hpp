@@ -43,7 +43,7 @@ struct fault_effect {
 class fault_plan {
 public:
     // Replaces the rules (an empty list switches fault injection off).
-    void set(std::vector<fault_rule> rules);
+    void set(const std::vector<fault_rule>& rules);
     // Number of rules still active.
     [[nodiscard]] std::size_t active() const { return rules_.size(); }
     // The effect on a request with `function` touching `spans` (none for device identification

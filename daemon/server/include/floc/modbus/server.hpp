@@ -51,6 +51,7 @@ enum class close_reason : std::uint8_t {
     server_full,     // refused: max_connections open
 };
 
+// A short description of `reason` for logs ("idle timeout").
 [[nodiscard]] std::string_view to_string(close_reason reason);
 
 enum class event_kind : std::uint8_t {
@@ -99,9 +100,9 @@ struct server_statistics {
 // The requests one client address has sent, by function code (every complete Modbus frame,
 // answered or refused).
 struct client_record {
-    std::array<std::uint64_t, 256> by_function{};
-    [[nodiscard]] std::uint64_t total() const;
-    [[nodiscard]] std::uint64_t writes() const; // requests with a write function code
+    std::array<std::uint64_t, 256> by_function{}; // indexed by the function code byte
+    [[nodiscard]] std::uint64_t total() const;    // all requests
+    [[nodiscard]] std::uint64_t writes() const;   // requests with a write function code
 };
 
 class server {
@@ -127,7 +128,7 @@ public:
     // Requests by function code for every client address seen, keyed by IPv4 address.
     [[nodiscard]] const std::map<std::uint32_t, client_record>& clients() const;
     // Replaces the fault rules (empty: off, the default); applies to the next request on.
-    void set_faults(std::vector<fault_rule> rules);
+    void set_faults(const std::vector<fault_rule>& rules);
     // Fault rules still active (rules with a limit retire when spent).
     [[nodiscard]] std::size_t active_faults() const;
 
