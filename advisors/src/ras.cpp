@@ -89,7 +89,7 @@ ras_result step_ras(const ras_params& p, const ras_inputs& in, const ras_state& 
     advice& a = r.out;
     a.kind = quantity::dimensionless;
     const units::unit_system sys = p.text_units;
-    const bool flow_ok = in.flow.usable() && in.flow.value > 0.0;
+    const bool flow_ok = in.flow.usable() && flow_can_be_paced(in.flow.value, p.max_ratio, p.pump_min_m3_per_d);
     const double flow = flow_ok ? in.flow.value : 0.0;
 
     ratio_bounds b =
@@ -130,7 +130,8 @@ ras_result step_ras(const ras_params& p, const ras_inputs& in, const ras_state& 
             why = "RAS solids " + text(in.ras_solids.value, quantity::concentration, sys) +
                   " not above MLSS " + text(in.mlss.value, quantity::concentration, sys);
         } else if (in.flow.usable() && !flow_ok) {
-            why = "no influent flow";
+            why = "influent flow " + text(std::max(in.flow.value, 0.0), quantity::flow, sys) +
+                  " too low to pace the RAS pump";
         } else if (p.method == ras_method::mass_balance) {
             why = detail::unusable_inputs(
                 {{"flow", &in.flow}, {"MLSS", &in.mlss}, {"RAS solids", &in.ras_solids}});

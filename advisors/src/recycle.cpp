@@ -41,21 +41,22 @@ recycle_result step_recycle(const recycle_params& p, const recycle_inputs& in,
     a.kind = quantity::dimensionless;
     const units::unit_system sys = p.text_units;
 
-    const ratio_bounds b =
-        flow_paced_bounds(p.min_ratio, p.max_ratio, p.pump_min_m3_per_d, p.pump_max_m3_per_d,
-                          in.flow.usable() ? in.flow.value : 0.0);
+    const bool flow_ok = in.flow.usable() && flow_can_be_paced(in.flow.value, p.max_ratio, p.pump_min_m3_per_d);
+    const ratio_bounds b = flow_paced_bounds(p.min_ratio, p.max_ratio, p.pump_min_m3_per_d,
+                                             p.pump_max_m3_per_d, flow_ok ? in.flow.value : 0.0);
     a.min = b.lo;
     a.max = b.hi;
 
-    if (!in.nitrate.usable() || !in.flow.usable() || !(in.flow.value > 0.0)) {
+    if (!in.nitrate.usable() || !flow_ok) {
         a.reasons.add(reason::input_bad);
         const held_output h =
             hold_or_fallback(s.out, now_s, {p.hold_for_s, p.fallback_ratio}, a.reasons);
         a.value = std::clamp(h.value, b.lo, b.hi);
         a.quality = h.quality;
         const std::string why =
-            in.flow.usable() && !(in.flow.value > 0.0)
-                ? std::string{"no influent flow"}
+            in.flow.usable() && !flow_ok
+                ? "influent flow " + text(std::max(in.flow.value, 0.0), quantity::flow, sys) +
+                      " too low to pace the recycle pump"
                 : detail::unusable_inputs({{"anoxic nitrate", &in.nitrate}, {"flow", &in.flow}});
         a.explanation = detail::held(why, "recycle ratio", h, s.out, now_s, p.hold_for_s,
                                      detail::quantity_text(quantity::dimensionless, sys));

@@ -119,6 +119,21 @@ TEST(RasAdvisor, FirstAdviceStartsFromTheRasInUseAndMovesAtTheAllowedRate) {
     EXPECT_TRUE(r.out.reasons.has(reason::rate_limited));
 }
 
+// Below 1000 m3/d no ratio up to 1.2 reaches the 1200 m3/d pump minimum: the advice is held
+// within the ratio limits, never pump_min / flow.
+TEST(RasAdvisor, FlowTooLowToPaceHoldsTheAdvice) {
+    const ras_result before = settle(params(), inputs(0.0), 2.0);
+    ASSERT_EQ(before.out.quality, advice_quality::good);
+    for (const double flow : {0.0, 1e-30, 999.0}) {
+        ras_inputs in = inputs(7200.0);
+        in.flow = good(flow, 7200.0);
+        const ras_result r = step_ras(params(), in, before.state, 7200.0);
+        EXPECT_EQ(r.out.quality, advice_quality::held) << flow;
+        EXPECT_LE(r.out.value, params().max_ratio) << flow;
+        EXPECT_NE(r.out.explanation.find("too low to pace"), std::string::npos) << r.out.explanation;
+    }
+}
+
 TEST(RasAdvisor, SettleometerWhenNoRasSolids) {
     ras_inputs in = inputs(0.0);
     in.ras_solids.quality = signal_quality::missing;

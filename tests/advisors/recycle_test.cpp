@@ -82,6 +82,26 @@ TEST(Recycle, FlowPacedBoundsWhenPumpAndRatioDisagree) {
     EXPECT_DOUBLE_EQ(c.hi, 0.1);
 }
 
+// An influent flow too small for any ratio to reach the pump's minimum (a stopped inflow, a
+// meter reading zero) holds the advice instead of publishing pump_min / flow.
+TEST(Recycle, FlowTooLowToPaceHoldsTheAdvice) {
+    recycle_params p = params();
+    p.pump_min_m3_per_d = 1200.0;  // needs at least 300 m3/d at the 4.0 maximum ratio
+    recycle_state s;
+    double now = 0.0;
+    (void)run(p, 1.0, 1.0, s, now);
+    for (const double flow : {0.0, 1e-30, 299.0}) {
+        const recycle_result r = step_recycle(p, inputs(1.0, flow, now), s, now);
+        EXPECT_EQ(r.out.quality, advice_quality::held) << flow;
+        EXPECT_LE(r.out.value, p.max_ratio) << flow;
+        EXPECT_GE(r.out.value, p.min_ratio) << flow;
+        EXPECT_NE(r.out.explanation.find("too low to pace"), std::string::npos) << r.out.explanation;
+    }
+    EXPECT_TRUE(flow_can_be_paced(300.0, 4.0, 1200.0));
+    EXPECT_FALSE(flow_can_be_paced(299.9, 4.0, 1200.0));
+    EXPECT_FALSE(flow_can_be_paced(0.0, 4.0, 0.0));
+}
+
 TEST(Recycle, StartsFromTheRecycleFlowInUse) {
     recycle_inputs in = inputs(1.0, 4500.0, 0.0);
     in.recycle_flow = good(13500.0, 0.0);

@@ -43,6 +43,13 @@ struct recycle_result {
     recycle_state state;
 };
 
+// True when some ratio inside [.., max_ratio] gives at least the pump's minimum flow: below that
+// influent flow (a stopped inflow, a failed meter reading zero) a ratio is meaningless and the
+// flow-paced advisors hold their advice instead of publishing pump_min / flow.
+[[nodiscard]] constexpr bool flow_can_be_paced(double flow_m3_per_d, double max_ratio, double pump_min_m3_per_d) {
+    return flow_m3_per_d > 0.0 && flow_m3_per_d * max_ratio >= pump_min_m3_per_d;
+}
+
 // The ratio bounds at influent flow `flow_m3_per_d`; `pump_limited` when the pump decides.
 struct ratio_bounds {
     double lo = 0.0;
