@@ -36,6 +36,9 @@ public:
     [[nodiscard]] registers::lab_info info(std::size_t entry, double now_s) const;
     [[nodiscard]] std::size_t size() const { return entries_.size(); }
 
+    // The accepted entry could not be persisted: the slot says so.
+    void mark_store_failed(std::size_t entry) { entries_.at(entry).status = registers::lab_status::store_failed; }
+
     void save(store::state_document& doc) const;
     // Restores entries by name; entries no longer in the config are dropped, values outside the
     // (possibly new) range are dropped.

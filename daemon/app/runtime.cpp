@@ -5,6 +5,7 @@
 
 #include <spdlog/logger.h>
 
+#include <algorithm>
 #include <cmath>
 
 namespace floc::app {
@@ -12,7 +13,7 @@ namespace floc::app {
 runtime::runtime(config::plant_config cfg, boost::asio::any_io_executor executor,
                  std::shared_ptr<spdlog::logger> log, std::chrono::steady_clock::time_point epoch)
     : cfg_(std::move(cfg)), executor_(std::move(executor)), log_(std::move(log)), epoch_(epoch),
-      map_(registers::build(cfg_)), image_(map_, cfg_), labs_(cfg_), clock_(cfg_.clock.source),
+      map_(registers::build(cfg_)), image_(map_, cfg_), labs_(cfg_), advisors_(cfg_), clock_(cfg_.clock.source),
       states_(cfg_.tags.size()), signals_(cfg_.tags.size()), links_(cfg_.plcs.size()),
       polled_(cfg_.plcs.size(), false) {
     for (std::size_t i = 0; i < cfg_.plcs.size(); ++i) {
@@ -58,6 +59,7 @@ void runtime::adopt(const runtime& old) {
     store::state_document doc;
     old.labs_.save(doc);
     labs_.load(doc);
+    advisors_.adopt(old.advisors_);
     if (old.clock_.now() && old.clock_.source() == clock_.source()) {
         clock_ = old.clock_;
     }
@@ -87,6 +89,7 @@ void runtime::on_snapshot(const plc::poll_snapshot& snap) {
             }
         }
     }
+    run_advisors(false);
 }
 
 void runtime::on_tick(std::uint16_t heartbeat, double uptime_s, std::uint16_t config_generation) {
@@ -108,6 +111,17 @@ void runtime::on_tick(std::uint16_t heartbeat, double uptime_s, std::uint16_t co
     for (std::size_t i = 0; i < cfg_.lab.size(); ++i) {
         image_.put_lab(i, labs_.info(i, clock_.now().value_or(0.0)));
     }
+    run_advisors(false);
+    std::vector<registers::published_advice> aged;
+    advisors_.age(now, aged);
+    bool advice_good = true;
+    for (std::size_t i = 0; i < aged.size(); ++i) {
+        if (advisors_.last(i)) {
+            image_.put_advice(i, aged[i]);
+            advice_good = advice_good && aged[i].quality == 0;
+        }
+    }
+    all_good = all_good && advice_good;
     status_.heartbeat = heartbeat;
     status_.uptime_s = uptime_s;
     status_.plant_time_s = clock_.now().value_or(0.0);
@@ -160,12 +174,14 @@ void runtime::load_state() {
     }
     const auto& doc = std::get<store::state_document>(parsed);
     labs_.load(doc);
+    advisors_.load(doc);
     log_->info("state restored from {}", path.string());
 }
 
 bool runtime::save_state() {
     store::state_document doc;
     labs_.save(doc);
+    advisors_.save(doc);
     const std::filesystem::path path = state_path();
     if (const std::error_code ec = store::atomic_write(path, store::to_text(doc))) {
         if (state_ok_) {
@@ -180,6 +196,13 @@ bool runtime::save_state() {
 
 void runtime::journal_event(std::string_view event, const std::string& detail) {
     store::json_object line;
+    line.add("event", event);
+    line.add("detail", detail);
+    journal_line(std::move(line));
+}
+
+void runtime::journal_line(store::json_object body) {
+    store::json_object line;
     const auto wall = std::chrono::system_clock::now();
     line.add("time_unix_s", std::chrono::duration<double>(wall.time_since_epoch()).count());
     if (clock_.now()) {
@@ -187,8 +210,8 @@ void runtime::journal_event(std::string_view event, const std::string& detail) {
     } else {
         line.add_null("plant_time_s");
     }
-    line.add("event", event);
-    line.add("detail", detail);
+    line.add("site", cfg_.site.name);
+    line.add("record", body);
     if (const std::error_code ec = journal_->append(line)) {
         if (journal_ok_) {
             log_->error("cannot write the advice journal {}: {}", journal_->path().string(), ec.message());
@@ -197,6 +220,130 @@ void runtime::journal_event(std::string_view event, const std::string& detail) {
         return;
     }
     journal_ok_ = true;
+}
+
+namespace {
+
+std::string_view quality_name(advisors::signal_quality q) { return advisors::to_string(q); }
+
+store::json_object advice_record(const advisor_outcome& o, const config::plant_config& cfg) {
+    const advisors::advice& a = o.advice;
+    store::json_object r;
+    r.add("event", "advice");
+    r.add("advisor", o.key);
+    r.add("value", a.value);
+    const units::unit& canon = units::canonical_unit(a.kind);
+    r.add("unit", canon.symbol);
+    const units::unit& shown = a.kind == units::quantity::dimensionless ? canon : cfg.display.unit_for(a.kind);
+    r.add("display_value", units::from_canonical(a.value, shown));
+    r.add("display_unit", shown.symbol);
+    r.add("min", a.min);
+    r.add("max", a.max);
+    r.add("quality", advisors::to_string(a.quality));
+    std::vector<store::json_object> reasons;
+    for (const advisors::reason code : a.reasons.codes()) {
+        store::json_object x;
+        x.add("code", static_cast<int>(code));
+        x.add("name", advisors::describe(code).name);
+        reasons.push_back(std::move(x));
+    }
+    r.add("reasons", reasons);
+    r.add("explanation", a.explanation);
+    store::json_object inputs;
+    for (const auto& [name, reading] : o.inputs) {
+        store::json_object x;
+        x.add("value", reading.value);
+        x.add("quality", quality_name(reading.quality));
+        x.add("sampled_at_s", reading.sampled_at_s);
+        inputs.add(name, x);
+    }
+    r.add("inputs", inputs);
+    store::json_object figures;
+    for (const advisors::figure& f : a.figures) {
+        figures.add(f.name, f.value);
+    }
+    r.add("figures", figures);
+    return r;
+}
+
+} // namespace
+
+void runtime::run_advisors(bool force) {
+    const std::optional<double> plant_now = clock_.now();
+    if (!plant_now) {
+        return;  // no plant time yet (the PLC's time tag was not read)
+    }
+    const input_view in{signals_, labs_, *plant_now, seconds()};
+    for (auto& [slot, outcome] : advisors_.run_due(in, force)) {
+        image_.put_advice(slot, outcome.published);
+        if (outcome.changed) {
+            journal_line(advice_record(outcome, cfg_));
+            log_->debug("{}: {}", outcome.key, outcome.advice.explanation);
+        }
+    }
+}
+
+modbus::refusal runtime::read_registers(std::uint16_t address, std::span<std::uint16_t> out) const {
+    const std::uint32_t end = std::uint32_t{address} + static_cast<std::uint32_t>(out.size());
+    for (const auto& b : map_.blocks) {
+        if (b.count > 0 && address >= b.first && end <= b.end()) {
+            const auto words = image_.words(address, static_cast<std::uint16_t>(out.size()));
+            std::copy(words.begin(), words.end(), out.begin());
+            return modbus::accepted;
+        }
+    }
+    return modbus::exception_code::illegal_data_address;
+}
+
+modbus::refusal runtime::write_registers(std::uint16_t address, std::span<const std::uint16_t> values,
+                                         const modbus::client_info& client) {
+    const std::optional<registers::lab_write> w = registers::decode_lab_write(map_, cfg_, address, values);
+    if (!w) {
+        return modbus::exception_code::illegal_data_address;
+    }
+    const bool allowed = std::any_of(cfg_.hmi.lab_writers.begin(), cfg_.hmi.lab_writers.end(),
+                                     [&](const config::ipv4_network& n) { return n.contains(client.address_v4); });
+    const double now = clock_.now().value_or(0.0);
+    const registers::lab_status status = labs_.apply(*w, client.address_v4, allowed, now);
+    image_.put_lab(w->entry, labs_.info(w->entry, now));
+    const config::lab_entry& e = cfg_.lab.at(w->entry);
+    if (w->kind == registers::lab_write::what::minutes_ago && allowed) {
+        return modbus::accepted;
+    }
+    store::json_object r;
+    r.add("event", "lab_entry");
+    r.add("entry", e.name);
+    r.add("value", w->value);
+    r.add("unit", units::canonical_unit(e.kind).symbol);
+    r.add("from", config::format_network({client.address_v4, 32}));
+    r.add("status", status == registers::lab_status::accepted       ? "accepted"
+                    : status == registers::lab_status::out_of_range ? "out_of_range"
+                    : status == registers::lab_status::not_allowed  ? "not_allowed"
+                    : status == registers::lab_status::not_a_number ? "not_a_number"
+                                                                    : "other");
+    if (status == registers::lab_status::accepted) {
+        r.add("sample_time_s", labs_.current(w->entry)->sample_time_s);
+    }
+    journal_line(std::move(r));
+    if (!allowed) {
+        log_->warn("lab entry {} refused: {} is not in hmi_server.lab_writers", e.name,
+                   config::format_network({client.address_v4, 32}));
+        return modbus::exception_code::illegal_function;
+    }
+    if (status == registers::lab_status::accepted) {
+        log_->info("lab entry {} = {} from {}", e.name,
+                   units::format(w->value, e.kind == units::quantity::dimensionless ? units::canonical_unit(e.kind)
+                                                                                   : cfg_.display.unit_for(e.kind)),
+                   config::format_network({client.address_v4, 32}));
+        if (!save_state()) {
+            labs_.mark_store_failed(w->entry);
+            image_.put_lab(w->entry, labs_.info(w->entry, now));
+        }
+    }
+    // Out of range and not-a-number entries are answered normally: the protocol carried the
+    // value correctly; the slot's status register says why it was not taken (the Modbus
+    // specification reserves exception 03 for malformed requests, not for application limits).
+    return modbus::accepted;
 }
 
 } // namespace floc::app

@@ -3,7 +3,9 @@
 // carries state over by name.
 #pragma once
 
+#include "advisor_engine.hpp"
 #include "floc/conditioning/conditioning.hpp"
+#include "floc/modbus/register_space.hpp"
 #include "floc/config/config.hpp"
 #include "floc/plc/poller.hpp"
 #include "floc/registers/image.hpp"
@@ -46,10 +48,19 @@ public:
     // Once a second: staleness, status registers, heartbeat.
     void on_tick(std::uint16_t heartbeat, double uptime_s, std::uint16_t config_generation);
 
+    // Runs the advisors that are due (all of them with `force`) and publishes their advice.
+    void run_advisors(bool force);
+
+    // The HMI's view: reads of the register image, writes of lab entries.
+    [[nodiscard]] modbus::refusal read_registers(std::uint16_t address, std::span<std::uint16_t> out) const;
+    [[nodiscard]] modbus::refusal write_registers(std::uint16_t address, std::span<const std::uint16_t> values,
+                                                  const modbus::client_info& client);
+
     // State file: load at start, save periodically and at stop.
     void load_state();
     bool save_state();
     void journal_event(std::string_view event, const std::string& detail);
+    void journal_line(store::json_object line);
 
     [[nodiscard]] const config::plant_config& cfg() const { return cfg_; }
     [[nodiscard]] const registers::register_map& map() const { return map_; }
@@ -60,6 +71,7 @@ public:
     [[nodiscard]] const conditioning::signal& input(std::size_t tag) const { return signals_.at(tag); }
     [[nodiscard]] bool every_plc_polled() const;
     [[nodiscard]] const std::vector<plc::link_status>& links() const { return links_; }
+    [[nodiscard]] const advisor_engine& advisors() const { return advisors_; }
     [[nodiscard]] std::filesystem::path state_path() const;
 
 private:
@@ -70,6 +82,7 @@ private:
     registers::register_map map_;
     registers::image image_;
     lab_book labs_;
+    advisor_engine advisors_;
     plant_clock clock_;
     std::vector<conditioning::state> states_;
     std::vector<conditioning::signal> signals_;

@@ -6,6 +6,7 @@
 #pragma once
 
 #include "floc/config/config.hpp"
+#include "floc/modbus/server.hpp"
 
 #include <boost/asio/io_context.hpp>
 #include <boost/asio/signal_set.hpp>
@@ -29,7 +30,8 @@ struct service_options {
     std::chrono::milliseconds state_save_period{60000};  // how often state is written while running
 };
 
-class runtime;  // everything built from one config
+class runtime;    // everything built from one config
+class hmi_space;  // the register space the HMI server answers from
 
 class service {
 public:
@@ -52,6 +54,8 @@ public:
     // With --once: the text printed after the cycle.
     [[nodiscard]] const std::string& once_report() const { return once_report_; }
     [[nodiscard]] int exit_code() const { return exit_code_; }
+    // The HMI server's bound port (useful with port 0 in tests).
+    [[nodiscard]] std::uint16_t hmi_port() const;
 
 private:
     void wait_for_signals();
@@ -60,6 +64,7 @@ private:
     void on_tick();
     void reload();
     void finish_once();
+    int start_server();
 
     boost::asio::io_context& io_;
     std::shared_ptr<spdlog::logger> log_;
@@ -70,6 +75,8 @@ private:
     std::chrono::steady_clock::time_point started_;
     std::chrono::steady_clock::time_point last_save_;
     std::unique_ptr<runtime> rt_;
+    std::unique_ptr<hmi_space> space_;
+    std::unique_ptr<modbus::server> server_;
     std::string once_report_;
     int exit_code_ = 0;
     bool stopping_ = false;
