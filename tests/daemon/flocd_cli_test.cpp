@@ -102,4 +102,22 @@ TEST(FlocdCli, CheckConfigRefusesEveryBrokenConfig) {
     EXPECT_GE(files, 12U);
 }
 
+// The register map shipped in the source tree is what flocd prints for the demo config.
+TEST(FlocdCli, RegisterMapDocumentMatchesTheDemoConfig) {
+    const auto r = run_process({flocd, "--config", (source_dir / "config/examples/marrowby-si.toml").string(),
+                                "--register-map", "--format", "md"});
+    ASSERT_EQ(r.exit_code, 0) << r.err;
+    std::ifstream in(source_dir / "daemon/registers/register-map.md");
+    std::ostringstream doc;
+    doc << in.rdbuf();
+    EXPECT_EQ(r.out, doc.str()) << "regenerate daemon/registers/register-map.md with\n"
+                                   "  flocd --config config/examples/marrowby-si.toml --register-map --format md";
+    EXPECT_NE(r.out.find("advisory only"), std::string::npos);
+    const auto csv = run_process({flocd, "--config", (source_dir / "config/examples/marrowby-us.toml").string(),
+                                  "--register-map", "--format", "csv"});
+    ASSERT_EQ(csv.exit_code, 0) << csv.err;
+    EXPECT_EQ(csv.out.rfind("address,registers,type,access,unit,scale,name,meaning\n", 0), 0U);
+    EXPECT_NE(csv.out.find(",gpm,"), std::string::npos);
+}
+
 } // namespace

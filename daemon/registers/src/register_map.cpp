@@ -1,5 +1,6 @@
 #include "floc/registers/register_map.hpp"
 
+#include "floc/advisors/advice.hpp"
 #include "floc/conditioning/conditioning.hpp"
 
 #include <algorithm>
@@ -308,9 +309,16 @@ std::string to_markdown(const register_map& map, const config::plant_config& cfg
            "`; uint32 values put the high word first. Scaled int16 registers hold round(value x scale), "
            "-32768 when there is no value. Units follow the display units of the config (" +
            std::string{cfg.display.system == units::unit_system::si ? "SI" : "US customary"} + ").\n\n";
-    out += "Only the lab block is writable (functions 06 and 16), and only from the addresses in "
-           "`hmi_server.lab_writers`; a write anywhere else is refused with exception 02 (illegal data "
-           "address), a write from another address with exception 01 (illegal function).\n\n";
+    out += "A read must lie inside one block; a read that touches an address outside the blocks is "
+           "refused with exception 02 (illegal data address). Functions 01 and 02 (bits) are not served "
+           "(exception 01). Only the lab block is writable (functions 06 and 16), and only from the "
+           "addresses in `hmi_server.lab_writers`; a write anywhere else is refused with exception 02, a "
+           "write from another address with exception 01 (illegal function). A lab value outside its "
+           "range is answered normally and not taken: the slot's status register says why.\n\n";
+    out += "To enter a lab sample: optionally write how many minutes ago it was taken to "
+           "`sample_minutes_ago`, then write the value, either as the float32 pair (function 16, both "
+           "registers) or as the scaled int16 (function 06); read `status` back: 1 accepted, 2 out of "
+           "range, 3 not allowed from this address, 4 not a number, 5 could not be stored.\n\n";
     out += "## Blocks\n\n| block | first | last | registers |\n|---|---|---|---|\n";
     for (const auto& blk : map.blocks) {
         const std::string name{blk.name.substr(0, blk.name.size() - 3)};
@@ -325,7 +333,22 @@ std::string to_markdown(const register_map& map, const config::plant_config& cfg
                (f.type == word_type::int16 && f.int16_scale != 1.0 ? scale_text(f.int16_scale) : std::string{}) +
                " | `" + f.name + "` | " + f.meaning + " |\n";
     }
-    out += "\n## Input reason codes\n\n| code | meaning |\n|---|---|\n";
+    out += "\n## Advice quality\n\n| code | meaning |\n|---|---|\n"
+           "| 0 | good: computed now from good inputs |\n"
+           "| 1 | held: inputs bad or stale, the last good advice is held |\n"
+           "| 2 | fallback: held too long, the configured safe value |\n"
+           "| 3 | unavailable: no advice yet |\n";
+    out += "\n## Advice reason codes\n\nEach advice slot carries up to four reason codes, the main one "
+           "first (0 = none).\n\n| code | name | meaning |\n|---|---|---|\n";
+    for (const advisors::reason_info& r : advisors::all_reasons()) {
+        if (r.code == advisors::reason::none) {
+            continue;
+        }
+        out += "| " + std::to_string(static_cast<int>(r.code)) + " | `" + std::string{r.name} + "` | " +
+               std::string{r.text} + " |\n";
+    }
+    out += "\n## Input reason codes\n\nInput quality: 0 good, 1 uncertain (the last good value while "
+           "reads fail or a spike is checked), 2 bad.\n\n| code | meaning |\n|---|---|\n";
     for (int r = 0; r <= static_cast<int>(conditioning::reason::stale); ++r) {
         out += "| " + std::to_string(r) + " | " + std::string{conditioning::to_string(static_cast<conditioning::reason>(r))} + " |\n";
     }
