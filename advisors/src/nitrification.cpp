@@ -8,9 +8,14 @@ namespace {
 
 constexpr double seconds_per_day = 86400.0;
 
-// Metcalf & Eddy 5th ed. (2014), Table 8-14, ammonia-oxidising bacteria (from memory).
+// Metcalf & Eddy 5th ed. (2014), Table 8-14 (p. 755), ammonia-oxidising bacteria, as quoted in
+// the public repository AnnaValls/ecoinvent: dataModel/constants.js ("table 8-14 at 20 degC":
+// mu_max,AOB 0.90 /d, b_AOB 0.17 /d, K_NH4 0.50 g N/m3, K_o,AOB 0.50 g/m3) and
+// techs/nitrification.js (mu_max x 1.072^(T-20), b x 1.029^(T-20), K_NH4 used without a
+// temperature correction, hence 1.0). Secondary source; the book itself was not retrieved.
 constexpr kinetic_set me_5th{"metcalf_eddy_5th", 0.90, 1.072, 0.17, 1.029, 0.50, 1.0, 0.50};
-// Metcalf & Eddy 4th ed. (2003), Table 8-11, nitrifying bacteria (from memory).
+// Metcalf & Eddy 4th ed. (2003), Table 8-11, nitrifying bacteria (from memory; no retrieved source
+// for these values was found).
 constexpr kinetic_set me_4th{"metcalf_eddy_4th", 0.75, 1.07, 0.08, 1.04, 0.74, 1.053, 0.50};
 
 } // namespace

@@ -43,14 +43,19 @@ settling_estimate settling_from_svi(svi_correlation c, double svi) {
     case svi_correlation::daigger_1995:
         v0_m_per_h = std::exp(1.871);
         k_l_per_g = 0.1646 + 0.001586 * svi;
-        // The database spans roughly SVI 35 to 400 mL/g (from memory of the paper's figures).
+        // Coefficients from memory; e^1.871 m/h = 21.3 ft/h and the SVI slope 0.001586 agree with a
+        // public re-implementation that names no paper (see settling_test.cpp). The database is
+        // 51 processes, 214 runs, over 1500 points (Daigger 1995 abstract, as seen in the copy at
+        // scribd.com/document/525249552/Dai-Gger-1995); the SVI range it spans, roughly 35 to
+        // 400 mL/g, is from memory of the paper's figures (not retrieved).
         e.data_min_svi = 35.0;
         e.data_max_svi = 400.0;
         break;
     case svi_correlation::wahlberg_keinath_1988:
         v0_m_per_h = 15.3 - 0.0615 * svi;
         k_l_per_g = 0.426 - 0.00384 * svi + 0.0000543 * svi * svi;
-        // Fitted to stirred SSVI3.5 of roughly 35 to 220 mL/g (from memory); v0 vanishes at 249.
+        // Coefficients from memory (no retrieved source found). Fitted to stirred SSVI3.5 of
+        // roughly 35 to 220 mL/g (from memory, not retrieved); v0 vanishes at 249.
         e.data_min_svi = 35.0;
         e.data_max_svi = 220.0;
         break;

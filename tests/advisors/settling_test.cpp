@@ -21,8 +21,11 @@ vesilind daigger(double svi) {
 }
 
 // Daigger (1995), Water Environment Research 67(1) 95-100: ln v = 1.871 - (0.1646 + 0.001586 SVI)
-// X, v in m/h, X in g/L. The coefficients are from memory; the intercept is corroborated by a
-// public re-implementation that uses V0 = 21.3 ft/h (= e^1.871 m/h).
+// X, v in m/h, X in g/L. The coefficients are from memory. A public re-implementation (a clarifier
+// "ISV" module in the stored code index, file id 36705715177; its repository and its source paper
+// are not named) uses V0 = 21.3 ft/h (= e^1.871 m/h) and the concentration scale
+// 1000 / (0.165 + 0.001586 SVI) mg/L: the intercept and the SVI slope agree, the constant 0.1646
+// only to its rounding 0.165. The paper's text with the equation was not retrieved.
 TEST(SviCorrelation, Daigger1995Intercept) {
     const vesilind s = daigger(150.0);
     const double v0_ft_per_h = floc::units::convert(s.v0_m_per_d, *floc::units::find_unit("m/d"),
@@ -41,7 +44,8 @@ TEST(SviCorrelation, Daigger1995VelocityAtSvi150) {
 
 // Wahlberg & Keinath (1988), JWPCF 60(12) 2095-2100, stirred SSVI3.5 in mL/g:
 // v0 = 15.3 - 0.0615 SSVI (m/h), k = 0.426 - 0.00384 SSVI + 0.0000543 SSVI^2 (L/g).
-// Coefficients from memory; values at SSVI 150 computed from the formula.
+// Coefficients from memory (no retrieved source quotes them); values at SSVI 150 computed from the
+// formula.
 TEST(SviCorrelation, WahlbergKeinath1988AtSsvi150) {
     const settling_estimate e = settling_from_svi(svi_correlation::wahlberg_keinath_1988, 150.0);
     ASSERT_TRUE(e.valid);

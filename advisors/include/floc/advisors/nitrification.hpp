@@ -7,8 +7,9 @@
 //   SRT_min   = 1 / mu_net;     SRT_design = safety factor x SRT_min
 // N is the ammonia concentration the aerobic zone must reach and DO its oxygen residual.
 // Two parameter sets from Metcalf & Eddy, "Wastewater Engineering", 4th ed. (2003) Table 8-11
-// and 5th ed. (2014) Table 8-14 (ammonia-oxidising bacteria); their values as held here are
-// from memory and are listed in README.md ("How each advice is computed").
+// and 5th ed. (2014) Table 8-14 (ammonia-oxidising bacteria). The 5th-edition values are as quoted
+// in the public repository AnnaValls/ecoinvent (see nitrification.cpp); the 4th-edition values are
+// from memory. Both are listed in README.md ("How each advice is computed").
 #pragma once
 
 #include <cstdint>

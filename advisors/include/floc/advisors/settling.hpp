@@ -28,12 +28,14 @@ struct vesilind {
 
 // Correlations giving v0 and k from a sludge volume index.
 enum class svi_correlation : std::uint8_t {
-    // Daigger (1995), Water Environment Research 67(1) 95-100: from the ordinary (unstirred)
-    // SVI, mL/g:  ln v [m/h] = 1.871 - (0.1646 + 0.001586 SVI) X [g/L].
+    // Daigger (1995), Water Environment Research 67(1) 95-100 (citation as listed in
+    // aquanova.cz/literature.htm, ref. 6): from the ordinary (unstirred) SVI, mL/g:
+    // ln v [m/h] = 1.871 - (0.1646 + 0.001586 SVI) X [g/L]. Coefficients from memory, intercept
+    // and SVI slope matched by a public re-implementation (see settling.cpp).
     daigger_1995 = 0,
     // Wahlberg & Keinath (1988), JWPCF 60(12) 2095-2100: from the STIRRED specific volume index
     // SSVI3.5, mL/g:  v0 [m/h] = 15.3 - 0.0615 SSVI;  k [L/g] = 0.426 - 0.00384 SSVI
-    // + 0.0000543 SSVI^2. Do not feed it an unstirred SVI.
+    // + 0.0000543 SSVI^2 (coefficients from memory). Do not feed it an unstirred SVI.
     wahlberg_keinath_1988 = 1,
 };
 
