@@ -258,6 +258,7 @@ struct simulation::engine {
     counters count;
     run_statistics stats;
     double last_dt_d = 0.0;
+    bool fresh = true;  // initialised, no step taken yet: no interpolation interval exists
 
     engine(const solver_options& o)
         : stepper(make(o)) {}
@@ -305,6 +306,7 @@ void simulation::restart() {
     const state_type s = to_state(state_);
     const double dt = std::max(engine_->last_dt_d, 1e-9);
     std::visit([&](auto& st) { st.initialize(s, t_d, dt); }, engine_->stepper);
+    engine_->fresh = true;
     ++engine_->stats.restarts;
 }
 
@@ -372,9 +374,14 @@ bool simulation::integrate_to(double t_stop_s) {
                             span = st.do_step(sys);
                         }
                         engine_->last_dt_d = span.second - span.first;
+                        engine_->fresh = false;
                         ++engine_->stats.steps;
                     }
-                    st.calc_state(t_obs_d, x);
+                    if (engine_->fresh) {
+                        x = st.current_state();
+                    } else {
+                        st.calc_state(t_obs_d, x);
+                    }
                 },
                 engine_->stepper);
             if (next_sample <= t_stop_s) {
