@@ -2,7 +2,9 @@
 
 #include "floc/config/table_reader.hpp"
 
+#include <array>
 #include <cmath>
+#include <cstdio>
 #include <fstream>
 #include <limits>
 #include <map>
@@ -275,7 +277,7 @@ private:
                      "a name no other train has");
         }
         set(r.number("influent_share", 0.0, 1.0, need::optional), t.influent_share);
-        share_pos_.push_back(r.pos());
+        share_pos_.push_back(r.pos_of("influent_share"));
         std::map<std::string, std::size_t, std::less<>> zone_names;
         r.each_table("zone", [&](table_reader& z, std::size_t zi) {
             zone_spec zs;
@@ -410,8 +412,10 @@ private:
             sum += t.influent_share;
         }
         if (!s_.plant.trains.empty() && std::abs(sum - 1.0) > 1e-6) {
-            d_.error(share_pos_.empty() ? root.pos() : share_pos_.front(), "train[].influent_share",
-                     "shares adding up to " + std::to_string(sum), "influent shares of all trains adding up to 1");
+            std::array<char, 32> buf{};
+            std::snprintf(buf.data(), buf.size(), "%g", sum);
+            d_.error(share_pos_.empty() ? root.pos() : share_pos_.front(), "train[0].influent_share",
+                     std::string{"shares adding up to "} + buf.data(), "influent shares of all trains adding up to 1");
         }
     }
 
