@@ -214,8 +214,10 @@ int headless(const options& o, const floc::sim::scenario& s) {
             std::cerr << "\nflocsim: " << sim.error() << "\n";
             return floc::app::exit_software;
         }
-        if (csv && sim.time_s() >= next_row - 1e-9) {
-            floc::app::write_csv_row(csv, run, sim);
+        if (sim.time_s() >= next_row - 1e-9) {
+            if (csv) {
+                floc::app::write_csv_row(csv, run, sim);
+            }
             next_row += o.csv_interval_s;
         }
         if (!o.quiet && sim.time_s() >= next_status) {

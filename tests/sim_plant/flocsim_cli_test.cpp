@@ -128,6 +128,14 @@ TEST(FlocsimCli, SteadyStateOfTheBenchmark) {
     fs::remove_all(dir);
 }
 
+TEST(FlocsimCli, HeadlessRunWithoutOutputFiles) {
+    const auto r = run_process({flocsim, "--scenario", scenario("carrick-fen"), "--for", "3h", "--quiet"},
+                               std::chrono::seconds{120});
+    EXPECT_EQ(r.exit_code, 0) << r.err;
+    EXPECT_FALSE(r.timed_out);
+    EXPECT_NE(r.out.find("plant time 10800 s"), std::string::npos) << r.out;
+}
+
 TEST(FlocsimCli, UnwritableOutputExits73) {
     const auto r = run_process({flocsim, "--scenario", scenario("carrick-fen"), "--for", "1h", "--csv", "/nonexistent/dir/t.csv"});
     EXPECT_EQ(r.exit_code, 73);

@@ -26,7 +26,8 @@ struct plant_system {
     const plant_model* model;
     const plant_controls* controls;
     counters* count;
-    void operator()(const state_type& x, state_type& dxdt, double t_d) const {
+    template <class V>
+    void operator()(const V& x, V& dxdt, double t_d) const {
         ++count->evaluations;
         model->derivatives(&x[0], &dxdt[0], t_d, *controls);
     }
@@ -39,7 +40,8 @@ struct reduced_system {
     counters* count;
     std::vector<double>* full_x;
     std::vector<double>* full_dxdt;
-    void operator()(const state_type& x, state_type& dxdt, double t_d) const {
+    template <class V>
+    void operator()(const V& x, V& dxdt, double t_d) const {
         ++count->evaluations;
         std::copy(x.begin(), x.end(), full_x->begin());
         model->derivatives(full_x->data(), full_dxdt->data(), t_d, *controls);
@@ -88,11 +90,10 @@ state_type to_state(const std::vector<double>& v) {
     return s;
 }
 
-std::vector<double> to_vector(const state_type& s) { return {s.begin(), s.end()}; }
-
-using runge_kutta_dopri5_reduced = odeint::runge_kutta_dopri5<state_type>;
-using dopri_dense = odeint::dense_output_runge_kutta<
-    odeint::controlled_runge_kutta<odeint::runge_kutta_dopri5<state_type>>>;
+// The explicit stepper works on std::vector (plain loops); only the Rosenbrock stepper needs uBLAS.
+using plain_state = std::vector<double>;
+using runge_kutta_dopri5_plain = odeint::runge_kutta_dopri5<plain_state>;
+using dopri_dense = odeint::dense_output_runge_kutta<odeint::controlled_runge_kutta<runge_kutta_dopri5_plain>>;
 using rosenbrock_dense = odeint::rosenbrock4_dense_output<odeint::rosenbrock4_controller<odeint::rosenbrock4<double>>>;
 
 } // namespace
@@ -172,22 +173,21 @@ steady_state_result find_steady_state(const plant_model& model, const plant_cont
     std::vector<double> full_x(x.size(), 0.0);
     std::vector<double> full_dxdt(x.size(), 0.0);
     const reduced_system sys{&model, &u, &count, &full_x, &full_dxdt};
-    state_type s(n);
-    std::copy(x.begin(), x.begin() + static_cast<std::ptrdiff_t>(n), s.begin());
+    plain_state s(x.begin(), x.begin() + static_cast<std::ptrdiff_t>(n));
     std::vector<double> trial = x;
     std::fill(trial.begin() + static_cast<std::ptrdiff_t>(n), trial.end(), 0.0);
-    const auto residual_of = [&](const state_type& v) {
+    const auto residual_of = [&](const plain_state& v) {
         std::copy(v.begin(), v.end(), trial.begin());
         return steady_residual(model, trial, u);
     };
     double t = 0.0;
     try {
-        auto explicit_stepper = odeint::make_controlled(1e-7, 1e-7, runge_kutta_dopri5_reduced());
+        auto explicit_stepper = odeint::make_controlled(1e-7, 1e-7, runge_kutta_dopri5_plain());
         double residual = residual_of(s);
         std::vector<double> jac(n * n);
         std::vector<double> rhs(n);
-        state_type f0(n);
-        state_type f1(n);
+        plain_state f0(n);
+        plain_state f1(n);
         while (residual >= options.tolerance_per_day && t < options.transient_days) {
             if (residual > options.newton_from) {
                 const double chunk = 2.0;
@@ -201,7 +201,7 @@ steady_state_result find_steady_state(const plant_model& model, const plant_cont
             for (std::uint64_t i = 0; i < options.max_iterations && progress &&
                                       residual >= options.tolerance_per_day; ++i) {
                 sys(s, f0, 0.0);
-                state_type xp = s;
+                plain_state xp = s;
                 for (std::size_t j = 0; j < n; ++j) {
                     const double h = 1e-7 * std::max(std::abs(s[j]), 1.0);
                     xp[j] = s[j] + h;
@@ -219,7 +219,7 @@ steady_state_result find_steady_state(const plant_model& model, const plant_cont
                 }
                 progress = false;
                 for (double lambda = 1.0; lambda > 1e-3; lambda *= 0.5) {
-                    state_type next = s;
+                    plain_state next = s;
                     for (std::size_t r = 0; r < n; ++r) {
                         next[r] += lambda * rhs[r];
                     }
@@ -269,8 +269,7 @@ struct simulation::engine {
             return odeint::make_dense_output(o.absolute_tolerance, o.relative_tolerance, max_dt,
                                              odeint::rosenbrock4<double>());
         }
-        return odeint::make_dense_output(o.absolute_tolerance, o.relative_tolerance, max_dt,
-                                         odeint::runge_kutta_dopri5<state_type>());
+        return odeint::make_dense_output(o.absolute_tolerance, o.relative_tolerance, max_dt, runge_kutta_dopri5_plain());
     }
 };
 
@@ -303,9 +302,16 @@ const run_statistics& simulation::statistics() const {
 
 void simulation::restart() {
     const double t_d = time_s_ / seconds_per_day;
-    const state_type s = to_state(state_);
     const double dt = std::max(engine_->last_dt_d, 1e-9);
-    std::visit([&](auto& st) { st.initialize(s, t_d, dt); }, engine_->stepper);
+    std::visit(
+        [&](auto& st) {
+            if constexpr (std::is_same_v<std::decay_t<decltype(st)>, rosenbrock_dense>) {
+                st.initialize(to_state(state_), t_d, dt);
+            } else {
+                st.initialize(state_, t_d, dt);
+            }
+        },
+        engine_->stepper);
     engine_->fresh = true;
     ++engine_->stats.restarts;
 }
@@ -354,7 +360,8 @@ bool simulation::advance_to(double t_s) {
 bool simulation::integrate_to(double t_stop_s) {
     const plant_system sys{&model_, &controls_, &engine_->count};
     const fd_jacobian<plant_system> jac{sys};
-    state_type x(state_.size());
+    plain_state x(state_.size());
+    state_type xu(state_.size());
     try {
         while (true) {
             double next_sample = std::numeric_limits<double>::infinity();
@@ -377,7 +384,14 @@ bool simulation::integrate_to(double t_stop_s) {
                         engine_->fresh = false;
                         ++engine_->stats.steps;
                     }
-                    if (engine_->fresh) {
+                    if constexpr (std::is_same_v<stepper_t, rosenbrock_dense>) {
+                        if (engine_->fresh) {
+                            xu = st.current_state();
+                        } else {
+                            st.calc_state(t_obs_d, xu);
+                        }
+                        std::copy(xu.begin(), xu.end(), x.begin());
+                    } else if (engine_->fresh) {
                         x = st.current_state();
                     } else {
                         st.calc_state(t_obs_d, x);
@@ -397,7 +411,7 @@ bool simulation::integrate_to(double t_stop_s) {
                     continue;
                 }
             }
-            state_ = to_vector(x);
+            state_ = x;
             time_s_ = t_stop_s;
             return true;
         }
