@@ -94,7 +94,7 @@ TEST(Bsm1SteadyState, DefaultControllersReachThePublishedClosedLoopState) {
     scenario s = bsm1();
     s.plant.trains[0].zones[4].aeration.mode = aeration_mode::do_loop;
     s.plant.trains[0].recycle.mode = recycle_mode::nitrate_loop;
-    const std::vector<double> x = test::steady_state(s, &closed_loop);
+    const std::vector<double> x = test::steady_state(s);
     const plant_model model{s.plant, s.influent};
     const plant_output out = model.outputs(x.data(), 0.0, initial_controls(s.plant));
     compare_tanks(out, closed_loop, closed_loop_tss, "closed loop");

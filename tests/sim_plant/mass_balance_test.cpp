@@ -1,6 +1,7 @@
 // Mass balances over a dynamic run (2 days; 0.6 days in sanitizer builds): oxygen demand (COD)
-// and nitrogen, in = out + accumulated, within 0.1 % of what came in. The plant is Marrowby (two trains, diurnal and rain influent, DO
-// loops, a blower trip and a power failure added here), so flows, loops and events all take part.
+// and nitrogen, in = out + accumulated, within 0.1 % of what came in. The plant is Marrowby (two
+// trains, diurnal and rain influent, DO loops, a blower trip and a power failure added here), so
+// flows, loops and events all take part.
 // Oxygen demand counts dissolved oxygen as negative COD and nitrate at -4.57 g O2/g N; what leaves
 // it besides effluent and waste sludge is the oxygen supplied by aeration and the nitrate reduced
 // to N2 gas (1.71 g O2/g N relative to ammonium); see floc/sim/asm1.hpp. (The balance itself is

@@ -20,30 +20,9 @@ scenario load(const std::string& name) {
     return std::move(*r.value);
 }
 
-std::vector<double> steady_state(const scenario& s, const bsm1_reference::tank_table* near) {
+std::vector<double> steady_state(const scenario& s) {
     steady_state_result r;
-    std::vector<double> x;
-#ifdef FLOC_SIM_TESTS_SANITIZED
-    if (near != nullptr && s.plant.trains.size() == 1 && s.plant.trains[0].zones.size() == 5) {
-        const plant_model model{s.plant, s.influent};
-        asm1::vector last{};
-        for (std::size_t k = 0; k < asm1::component_count; ++k) {
-            last[k] = 1.1 * (*near)[k][4];
-        }
-        x = model.uniform_state(last);
-        for (std::size_t z = 0; z < 5; ++z) {
-            for (std::size_t k = 0; k < asm1::component_count; ++k) {
-                x[model.layout().zone(0, z) + k] = 1.1 * (*near)[k][z];
-            }
-        }
-        r = find_steady_state(model, initial_controls(s.plant), x);
-    } else {
-        x = initial_state(s, &r);
-    }
-#else
-    (void)near;
-    x = initial_state(s, &r);
-#endif
+    std::vector<double> x = initial_state(s, &r);
     if (!r.converged) {
         std::cerr << s.name << ": steady state not reached, residual " << r.residual << " " << r.error << "\n";
         std::abort();
@@ -57,7 +36,7 @@ const scenario& bsm1() {
 }
 
 const std::vector<double>& bsm1_steady_state() {
-    static const std::vector<double> x = steady_state(bsm1(), &bsm1_reference::open_loop);
+    static const std::vector<double> x = steady_state(bsm1());
     return x;
 }
 

@@ -1,7 +1,6 @@
 // Shared helpers of the simulator tests: scenarios from sim_plant/scenarios and cached steady states.
 #pragma once
 
-#include "bsm1_reference.hpp"
 #include "floc/sim/scenario.hpp"
 
 #include <string>
@@ -12,11 +11,8 @@ namespace floc::sim::test {
 // Loads sim_plant/scenarios/NAME.toml; fails the test (and aborts it) when it does not load.
 [[nodiscard]] scenario load(const std::string& name);
 
-// The steady state of `s`, found from the scenario's start (release builds). In sanitizer builds,
-// where the full search from the generic start takes minutes, a single-train scenario may be
-// searched from `near` (a published steady state, every value raised by 10 %) instead: the same
-// solver, a shorter transient. Aborts when the steady state is not reached.
-[[nodiscard]] std::vector<double> steady_state(const scenario& s, const bsm1_reference::tank_table* near = nullptr);
+// The steady state of `s` from the scenario's start; aborts when it is not reached.
+[[nodiscard]] std::vector<double> steady_state(const scenario& s);
 
 // The BSM1 validation scenario and its open-loop steady state, computed once per test binary.
 [[nodiscard]] const scenario& bsm1();

@@ -299,7 +299,7 @@ private:
             const auto mode = z.choice<int>("aeration", {{"none", 0}, {"fixed", 1}, {"do_loop", 2}},
                                             zs.kind == zone_kind::aerobic ? need::required : need::optional)
                                   .value_or(0);
-            if (mode != 0 && zs.kind != zone_kind::aerobic && mode == 2) {
+            if (mode == 2 && zs.kind != zone_kind::aerobic) {
                 d_.error(z.pos_of("aeration"), z.path_of("aeration"), "a DO loop in an unaerated zone",
                          "aeration = \"none\" or \"fixed\" for an anoxic or anaerobic zone");
             }

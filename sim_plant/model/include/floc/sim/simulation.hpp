@@ -11,9 +11,9 @@
 //    held near the stability limit of the fastest oxygen mode (tens of seconds of plant time), but
 //    a step costs 6 evaluations against the ~n evaluations plus an n^3 LU decomposition of a
 //    Rosenbrock step with a dense finite-difference Jacobian (n = 212 for the benchmark plant).
-//    Measured on the benchmark plant over 14 days of dynamic influent (release build, one core):
-//    dopri5 0.47 s (33 500 steps, 250 000 evaluations), rosenbrock4 73 s (14 100 steps, 3.3
-//    million evaluations, most of the time in uBLAS's LU), so dopri5 is the default.
+//    Measured on the benchmark plant over 14 days of dynamic influent (release build, one core,
+//    sim_plant/bench): dopri5 0.46 s (33 300 steps), rosenbrock4 about 40 s (0.35 plant days per
+//    second; most of the time in the Jacobian and uBLAS's LU), so dopri5 is the default.
 // The steady-state solver (find_steady_state) integrates the transient with dopri5 and finishes
 // with Newton iterations on dx/dt = 0.
 // Either can be chosen per scenario ([solver] stepper).
