@@ -91,6 +91,11 @@ TEST(Bsm1SteadyState, OpenLoopEnergyMatchesTheUpdatedBenchmarkFormulas) {
 }
 
 TEST(Bsm1SteadyState, DefaultControllersReachThePublishedClosedLoopState) {
+#ifdef FLOC_SIM_TESTS_SANITIZED
+    // A second full steady-state search takes half a minute under the sanitizers; the open-loop
+    // check above covers the same code there, this one runs in the release preset.
+    GTEST_SKIP() << "release preset only (a long validation run)";
+#endif
     scenario s = bsm1();
     s.plant.trains[0].zones[4].aeration.mode = aeration_mode::do_loop;
     s.plant.trains[0].recycle.mode = recycle_mode::nitrate_loop;
