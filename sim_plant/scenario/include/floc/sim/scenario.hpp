@@ -1,0 +1,68 @@
+// Scenarios: strict TOML files describing a simulated plant (trains, zones, clarifiers, PLC loops),
+// its influent, sensors and faults, scheduled events, the register map and the solver. Read with
+// floc::config's table reader, so that every problem is reported with file:line:column, key path,
+// what was found and what was expected, exactly like flocd's config. The schema is documented in
+// sim_plant/README.md.
+#pragma once
+
+#include "floc/config/load.hpp"
+#include "floc/sim/plant.hpp"
+#include "floc/sim/registers.hpp"
+#include "floc/sim/sensors.hpp"
+#include "floc/sim/simulation.hpp"
+
+#include <cstdint>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace floc::sim {
+
+inline constexpr std::int64_t scenario_schema_version = 1;
+inline constexpr std::size_t max_zones_per_train = 16;
+
+enum class initial_mode : std::uint8_t {
+    steady,  // the steady state of the plant at the mean influent, found before plant time 0
+    guess,   // every zone and clarifier layer at the given concentrations
+};
+
+struct scenario {
+    std::string source_file;
+    std::string name;
+    std::string description;
+    std::uint64_t seed = 1;
+    plant_spec plant;
+    influent_spec influent;
+    std::vector<sensor_spec> sensors;
+    std::vector<plant_event> events;
+    register_map registers;
+    bool default_registers = true;  // no [registers] table: the documented default map
+    solver_options solver;
+    initial_mode initial = initial_mode::steady;
+    asm1::vector initial_guess{};
+
+    [[nodiscard]] const sensor_spec* find_sensor(std::string_view name) const;
+};
+
+struct scenario_result {
+    std::optional<scenario> value;            // set only when `errors` is empty
+    std::vector<config::diagnostic> errors;   // in file order
+    bool unreadable = false;
+
+    [[nodiscard]] bool ok() const { return value.has_value(); }
+};
+
+[[nodiscard]] scenario_result load_scenario_file(const std::string& path);
+[[nodiscard]] scenario_result load_scenario_text(std::string_view text, std::string_view source_name);
+
+// The influent at its mean, constant (for the steady state before plant time 0).
+[[nodiscard]] influent_spec mean_influent(const influent_spec& s);
+
+// The start state of a scenario: its steady state or its guess. `result` reports the solver.
+[[nodiscard]] std::vector<double> initial_state(const scenario& s, steady_state_result* result = nullptr);
+
+// A simulation of the scenario, started from `x0`.
+[[nodiscard]] simulation make_simulation(const scenario& s, std::vector<double> x0);
+
+} // namespace floc::sim
