@@ -1,5 +1,6 @@
 #include "report.hpp"
 
+#include <algorithm>
 #include <array>
 #include <cmath>
 #include <cstdio>
@@ -215,6 +216,38 @@ std::string status_line(const sim::scenario& s, const sim::simulation& m, double
                   s.name.c_str(), day, until_s / 86400.0, o.influent.flow_m3_per_d, o.influent.temperature_c,
                   o.effluent[sim::asm1::s_nh], o.effluent[sim::asm1::s_no], o.effluent_tss_g_per_m3, o.energy.aeration_kw);
     return buf.data();
+}
+
+std::string active_faults(const sim::scenario& s, const sim::simulation& m) {
+    std::string out;
+    const auto add = [&](std::string_view what) {
+        out += (out.empty() ? "" : ", ") + std::string{what};
+    };
+    for (const auto& [sensor, fault] : sim::sensor_faults_at(s.sensors, m.time_s())) {
+        add(s.sensors[sensor].name + " " + std::string{sim::to_string(s.sensors[sensor].faults[fault].kind)});
+    }
+    for (const sim::plant_event& e : m.events()) {
+        if (m.time_s() >= e.start_s && m.time_s() < e.end_s) {
+            add(sim::to_string(e.kind));
+        }
+    }
+    return out.empty() ? "none" : out;
+}
+
+std::string serving_status_line(const sim::scenario& s, const sim::simulation& m) {
+    const sim::plant_output o = m.outputs();
+    const double t = m.time_s();
+    const auto whole = static_cast<unsigned long long>(std::max(t, 0.0));
+    std::array<char, 256> buf{};
+    std::snprintf(buf.data(), buf.size(), "%s  day %llu %02llu:%02llu  Q %.0f m3/d  eff NH4 %.2f NO3 %.2f TSS %.1f mg/L  blanket",
+                  s.name.c_str(), whole / 86400, whole % 86400 / 3600, whole % 3600 / 60, o.influent.flow_m3_per_d,
+                  o.effluent[sim::asm1::s_nh], o.effluent[sim::asm1::s_no], o.effluent_tss_g_per_m3);
+    std::string line = buf.data();
+    for (std::size_t i = 0; i < o.trains.size(); ++i) {
+        std::snprintf(buf.data(), buf.size(), " %s %.2f", s.plant.trains[i].name.c_str(), o.trains[i].clarifier.blanket_m);
+        line += buf.data();
+    }
+    return line + " m  faults: " + active_faults(s, m);
 }
 
 void write_register_map(std::ostream& out, const sim::scenario& s) {
