@@ -283,11 +283,13 @@ void write_summary(std::ostream& out, const sim::scenario& s) {
     }
     out << "scenario OK: " << s.source_file << "\n"
         << "  name        " << s.name << "\n"
+        << (s.based_on.empty() ? std::string{} : "  based on    " + s.based_on + "\n")
         << "  plant       " << s.plant.trains.size() << (s.plant.trains.size() == 1 ? " train, " : " trains, ") << zones
         << " zones (" << number(volume) << " m3), " << s.plant.trains.size() << " clarifiers\n"
         << "  influent    " << (s.influent.kind == sim::influent_kind::generated ? "generated" : "constant") << ", mean "
         << number(s.influent.mean_flow_m3_per_d) << " m3/d, seed " << s.seed << "\n"
         << "  sensors     " << s.sensors.size() << " (" << faults << " scheduled faults), " << s.events.size() << " events\n"
+        << "  server      port " << s.server.port << ", " << s.server.max_connections << " connections at most\n"
         << "  registers   " << s.registers.entries.size() << " entries" << (s.default_registers ? " (default map)" : "") << "\n"
         << "  solver      " << (s.solver.stepper == sim::stepper_kind::dopri5 ? "dopri5" : "rosenbrock4") << ", rtol "
         << number(s.solver.relative_tolerance) << "\n";

@@ -1,6 +1,7 @@
 // flocsim run as a real process: --help, --version, --check-scenario, headless runs with CSV and
 // JSON output, and the exit codes (sysexits, as documented in --help).
 #include "process.hpp"
+#include "test_files.hpp"
 
 #include <gtest/gtest.h>
 
@@ -12,25 +13,13 @@
 namespace {
 
 namespace fs = std::filesystem;
+using floc::sim::test::slurp;
 using floc::test::run_process;
 
 const fs::path source_dir{FLOC_SOURCE_DIR};
 const std::string flocsim{FLOCSIM_PATH};
 
 std::string scenario(const std::string& name) { return (source_dir / "sim_plant/scenarios" / (name + ".toml")).string(); }
-
-fs::path temp_dir() {
-    const fs::path d = fs::temp_directory_path() / ("flocsim-test-" + std::to_string(::getpid()));
-    fs::create_directories(d);
-    return d;
-}
-
-std::string slurp(const fs::path& p) {
-    std::ifstream in(p);
-    std::ostringstream s;
-    s << in.rdbuf();
-    return s.str();
-}
 
 TEST(FlocsimCli, HelpDocumentsEveryOptionAndTheCautions) {
     const auto r = run_process({flocsim, "--help"});
@@ -73,7 +62,7 @@ TEST(FlocsimCli, CheckScenario) {
 }
 
 TEST(FlocsimCli, HeadlessRunWritesTheTrendAndTheFinalState) {
-    const fs::path dir = temp_dir();
+    const fs::path dir = floc::sim::test::temp_dir("flocsim-test");
     const fs::path csv = dir / "trend.csv";
     const fs::path json = dir / "final.json";
     const auto r = run_process({flocsim, "--scenario", scenario("marrowby"), "--for", "6h", "--csv", csv.string(),
@@ -112,7 +101,7 @@ TEST(FlocsimCli, HeadlessRunWritesTheTrendAndTheFinalState) {
 }
 
 TEST(FlocsimCli, SteadyStateOfTheBenchmark) {
-    const fs::path dir = temp_dir();
+    const fs::path dir = floc::sim::test::temp_dir("flocsim-test");
     const fs::path json = dir / "steady.json";
     const auto r = run_process({flocsim, "--scenario", scenario("bsm1-validation"), "--to-steady-state", "--json",
                                 json.string(), "--quiet"},

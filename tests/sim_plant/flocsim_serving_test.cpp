@@ -6,10 +6,12 @@
 // time; a bench write; the client log; the fault bench's sensor and protocol faults on the wire
 // at their scheduled times; and the operator stand-in against a fake floc advisory server built
 // from flocd's register map. Every wait is bounded; the child is ended when a test fails.
+#include "advisory_support.hpp"
 #include "child_process.hpp"
 #include "libmodbus_client.hpp"
 #include "process.hpp"
 #include "support.hpp"
+#include "test_files.hpp"
 
 #include "floc/config/load.hpp"
 #include "floc/modbus/asio.hpp"
@@ -41,6 +43,7 @@ using namespace std::chrono_literals;
 using floc::modbus::test::child_process;
 using floc::modbus::test::libmodbus_connect;
 using floc::modbus::test::modbus_ptr;
+using floc::sim::test::slurp;
 using floc::test::run_process;
 
 const fs::path source_dir{FLOC_SOURCE_DIR};
@@ -57,20 +60,6 @@ constexpr auto start_limit = 120s;
 
 std::string scenario(const std::string& name) {
     return (source_dir / "sim_plant/scenarios" / (name + ".toml")).string();
-}
-
-fs::path temp_dir() {
-    const fs::path d =
-        fs::temp_directory_path() / ("flocsim-serving-" + std::to_string(::getpid()));
-    fs::create_directories(d);
-    return d;
-}
-
-std::string slurp(const fs::path& p) {
-    std::ifstream in(p);
-    std::ostringstream s;
-    s << in.rdbuf();
-    return s.str();
 }
 
 float float_at(const std::vector<std::uint16_t>& w, std::size_t i) {
@@ -367,7 +356,7 @@ TEST(FlocsimServing, IllegalFunctionsAndAddressesGetTheSpecsExceptionCodes) {
 }
 
 TEST(FlocsimServing, ABenchWriteChangesThePlantsControlAndTheClientLogRecordsIt) {
-    const fs::path dir = temp_dir();
+    const fs::path dir = floc::sim::test::temp_dir("flocsim-serving");
     const fs::path log = dir / "clients.json";
     served sim{{"--scenario", scenario("marrowby"), "--port", "0", "--lockstep", "1min",
                 "--client-log", log.string()}};
@@ -416,7 +405,7 @@ TEST(FlocsimServing, ABenchWriteChangesThePlantsControlAndTheClientLogRecordsIt)
 }
 
 TEST(FlocsimServing, ForStopsTheRunAndTheTrendAndStatusFollowPlantTime) {
-    const fs::path dir = temp_dir();
+    const fs::path dir = floc::sim::test::temp_dir("flocsim-serving");
     const fs::path trend = dir / "trend.csv";
     const fs::path log = dir / "clients.json";
     served sim{{"--scenario", scenario("marrowby"), "--port", "0", "--fast", "--for", "6h",
@@ -579,14 +568,7 @@ public:
         img.put_status(st);
         const auto advise = [&](std::size_t slot, double value, std::uint16_t quality,
                                 std::uint16_t reason) {
-            floc::registers::published_advice a;
-            a.value = value;
-            a.min = 0.0;
-            a.max = 1e4;
-            a.quality = quality;
-            a.reasons = {reason, 0, 0, 0};
-            a.age_s = 20.0;
-            img.put_advice(slot, a);
+            img.put_advice(slot, floc::sim::test::published(value, quality, reason, 20.0));
         };
         advise(0, 2.6, 0, 20);   // aeration a_oxic1: good, ammonia above target
         advise(2, 2.9, 1, 2);    // aeration b_oxic1: held, not to be applied

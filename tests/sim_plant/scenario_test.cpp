@@ -1,14 +1,13 @@
 // Scenario files: every bundled scenario loads; broken scenarios (tests/sim_plant/broken) are
 // refused with exactly the errors their "# expect: LINE:COL PATH | EXPECTED" lines announce.
 #include "support.hpp"
+#include "test_files.hpp"
 
 #include <gtest/gtest.h>
 
 #include <filesystem>
 #include <fstream>
 #include <regex>
-
-#include <unistd.h>
 
 namespace {
 
@@ -138,8 +137,7 @@ TEST(Scenarios, TheFaultBenchIsMarrowbyWithItsOwnSchedule) {
 }
 
 TEST(Scenarios, ABaseScenarioMustBeReadableValidAndNotBasedOnAnother) {
-    const fs::path dir = fs::temp_directory_path() / ("flocsim-overlay-" + std::to_string(::getpid()));
-    fs::create_directories(dir);
+    const fs::path dir = test::temp_dir("flocsim-overlay");
     const auto write = [&](const std::string& name, const std::string& text) {
         std::ofstream(dir / name) << text;
         return (dir / name).string();
@@ -150,10 +148,19 @@ TEST(Scenarios, ABaseScenarioMustBeReadableValidAndNotBasedOnAnother) {
     ASSERT_TRUE(ok.ok()) << (ok.errors.empty() ? "" : ok.errors.front().message());
     EXPECT_EQ(ok.value->based_on, minimal);
 
-    const scenario_result second = load_scenario_file(write("second.toml", "scenario_version = 1\nbased_on = \"first.toml\"\n"));
-    ASSERT_EQ(second.errors.size(), 1U);
+    // A chain of bases, or a file based on itself, is refused in the base it reaches.
+    const std::string second_path = write("second.toml", "scenario_version = 1\nbased_on = \"first.toml\"\n");
+    const scenario_result second = load_scenario_file(second_path);
+    ASSERT_EQ(second.errors.size(), 2U);
+    EXPECT_EQ(second.errors[0].file, first);
     EXPECT_EQ(second.errors[0].path, "based_on");
     EXPECT_EQ(second.errors[0].expected, "a base scenario that is not based on another");
+    EXPECT_EQ(second.errors[1].file, second_path);
+    EXPECT_EQ(second.errors[1].expected, "a valid base scenario (its errors are listed above)");
+    const scenario_result itself = load_scenario_file(
+        write("itself.toml", "scenario_version = 1\nbased_on = \"itself.toml\"\n[[fault]]\nsensor = \"x\"\n"));
+    ASSERT_EQ(itself.errors.size(), 2U);  // and the [[fault]] it could not read is not reported
+    EXPECT_EQ(itself.errors[0].expected, "a base scenario that is not based on another");
 
     const scenario_result missing = load_scenario_file(write("missing.toml", "scenario_version = 1\nbased_on = \"nope.toml\"\n"));
     ASSERT_EQ(missing.errors.size(), 1U);

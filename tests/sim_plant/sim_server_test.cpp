@@ -2,6 +2,7 @@
 // (floc's advisory registers decoded, the acceptance delay, the set points it keys in, the advice
 // table), in process and without sockets. The function and exception codes are those of the
 // MODBUS Application Protocol Specification V1.1b3 (§6, §7).
+#include "advisory_support.hpp"
 #include "support.hpp"
 
 #include "floc/config/load.hpp"
@@ -191,14 +192,7 @@ struct advisory_fixture {
         img.put_status(st);
     }
     void advise(std::size_t slot, double value, std::uint16_t quality, std::uint16_t reason) {
-        registers::published_advice a;
-        a.value = value;
-        a.min = 0.0;
-        a.max = 1000.0;
-        a.quality = quality;
-        a.reasons = {reason, 0, 0, 0};
-        a.age_s = 12.0;
-        img.put_advice(slot, a);
+        img.put_advice(slot, test::published(value, quality, reason, 12.0));
     }
     [[nodiscard]] advisory_seen read() const {
         const std::vector<register_read> reads = advisory_reads(map);

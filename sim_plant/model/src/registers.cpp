@@ -63,11 +63,13 @@ double setpoint_value(const register_entry& e, const plant_controls& u) {
     return nan;
 }
 
-void store_setpoint(const register_entry& e, double v, plant_controls& u) {
-    train_controls& t = u.trains.at(e.train);
-    switch (e.setpoint) {
-    case setpoint_kind::do_setpoint: t.zones.at(e.zone).do_setpoint_g_per_m3 = v; break;
-    case setpoint_kind::kla: t.zones.at(e.zone).kla_per_d = v; break;
+} // namespace
+
+void store_setpoint(plant_controls& u, setpoint_kind kind, std::size_t train, std::size_t zone, double v) {
+    train_controls& t = u.trains.at(train);
+    switch (kind) {
+    case setpoint_kind::do_setpoint: t.zones.at(zone).do_setpoint_g_per_m3 = v; break;
+    case setpoint_kind::kla: t.zones.at(zone).kla_per_d = v; break;
     case setpoint_kind::ras_flow: t.ras_flow_m3_per_d = v; break;
     case setpoint_kind::ras_ratio: t.ras_ratio = v; break;
     case setpoint_kind::was_flow: t.was_flow_m3_per_d = v; break;
@@ -75,8 +77,6 @@ void store_setpoint(const register_entry& e, double v, plant_controls& u) {
     case setpoint_kind::nitrate_setpoint: t.nitrate_setpoint_g_per_m3 = v; break;
     }
 }
-
-} // namespace
 
 register_map default_register_map(const plant_spec& plant, const std::vector<sensor_spec>& sensors) {
     register_map map;
@@ -321,7 +321,7 @@ write_result apply_write(const register_map& map, std::uint16_t first, std::span
         if (in_force != v) {
             clamped.push_back(e.label);
         }
-        store_setpoint(e, in_force, next);
+        store_setpoint(next, e.setpoint, e.train, e.zone, in_force);
         for (std::size_t a = a0; a < a1; ++a) {
             covered[a - first] = true;
         }

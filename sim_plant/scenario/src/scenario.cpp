@@ -76,6 +76,11 @@ void read_components(table_reader& r, asm1::vector& c) {
     }
 }
 
+// A scenario file read as one that may be based on another (any), or as the base of one (base:
+// a based_on key is then an error, so that no chain or cycle of bases is ever followed).
+enum class load_as : std::uint8_t { any, base };
+scenario_result load_file_as(const std::string& path, load_as as);
+
 struct name_index {
     std::map<std::string, std::pair<std::size_t, std::size_t>, std::less<>> zones;  // train, zone
     std::map<std::string, std::size_t, std::less<>> trains;
@@ -118,8 +123,11 @@ public:
     // seed and server, and the fault schedule). Only one level: a base cannot be based on another.
     void read_overlay(table_reader& root, std::string_view source_name) {
         read_version(root);
+        // Without a base the changes cannot be read; they are not reported as unknown keys.
+        const auto give_up = [&] { root.skip({"base_faults", "scenario", "server", "fault", "event"}); };
         const std::optional<std::string> base = root.string("based_on", need::required);
         if (!base) {
+            give_up();
             return;
         }
         for (const std::string_view key : {"solver", "initial", "influent", "biology", "oxygen", "train", "sensor", "registers"}) {
@@ -132,22 +140,18 @@ public:
         const std::filesystem::path here{std::string{source_name}};
         const std::filesystem::path base_path =
             std::filesystem::path{*base}.is_absolute() ? std::filesystem::path{*base} : here.parent_path() / *base;
-        scenario_result b = load_scenario_file(base_path.string());
+        scenario_result b = load_file_as(base_path.string(), load_as::base);
         if (b.unreadable) {
             d_.error(root.pos_of("based_on"), "based_on", "the file " + quote(base_path.string()) + " that cannot be opened",
                      "the path of a readable scenario file, relative to this one");
+            give_up();
             return;
         }
         if (!b.ok()) {
             base_errors_ = std::move(b.errors);
             d_.error(root.pos_of("based_on"), "based_on", "the invalid scenario " + quote(base_path.string()),
                      "a valid base scenario (its errors are listed above)");
-            return;
-        }
-        if (!b.value->based_on.empty()) {
-            d_.error(root.pos_of("based_on"), "based_on",
-                     quote(base_path.string()) + ", itself based on " + quote(b.value->based_on),
-                     "a base scenario that is not based on another");
+            give_up();
             return;
         }
         const std::string source = s_.source_file;
@@ -917,17 +921,23 @@ const sensor_spec* scenario::find_sensor(std::string_view n) const {
     return nullptr;
 }
 
-scenario_result load_scenario_text(std::string_view text, std::string_view source_name) {
+namespace {
+
+scenario_result load_text_as(std::string_view text, std::string_view source_name, load_as as) {
     scenario_result result;
     diagnostics diags{std::string{source_name}};
     scenario s;
     s.source_file = std::string{source_name};
     loader l{diags, s};
     config::read_document(text, diags, [&](table_reader& root) {
-        if (root.has("based_on")) {
+        if (!root.has("based_on")) {
+            l.read(root);
+        } else if (as == load_as::any) {
             l.read_overlay(root, source_name);
         } else {
-            l.read(root);
+            diags.error(root.pos_of("based_on"), "based_on", "based_on in a scenario used as a base",
+                        "a base scenario that is not based on another");
+            root.skip({"scenario_version", "based_on", "base_faults", "scenario", "server", "fault", "event"});
         }
     });
     result.errors = l.take_base_errors();
@@ -941,7 +951,7 @@ scenario_result load_scenario_text(std::string_view text, std::string_view sourc
     return result;
 }
 
-scenario_result load_scenario_file(const std::string& path) {
+scenario_result load_file_as(const std::string& path, load_as as) {
     std::ifstream in(path, std::ios::binary);
     if (!in) {
         scenario_result r;
@@ -951,8 +961,16 @@ scenario_result load_scenario_file(const std::string& path) {
     }
     std::ostringstream text;
     text << in.rdbuf();
-    return load_scenario_text(text.str(), path);
+    return load_text_as(text.str(), path, as);
 }
+
+} // namespace
+
+scenario_result load_scenario_text(std::string_view text, std::string_view source_name) {
+    return load_text_as(text, source_name, load_as::any);
+}
+
+scenario_result load_scenario_file(const std::string& path) { return load_file_as(path, load_as::any); }
 
 influent_spec mean_influent(const influent_spec& s) {
     influent_spec m = flat_profiles(s);

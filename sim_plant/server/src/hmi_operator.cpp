@@ -336,7 +336,6 @@ std::string operator_standin::apply(std::size_t index, double value, const plant
     const registers::advice_slot& advice = map_.advice.at(index);
     const advisor_kind kind = advice.kind;
     const target& to = s.to;
-    train_controls& tc = u.trains.at(to.train);
     const double flow =
         to.train < out.trains.size() ? out.trains[to.train].influent.flow_m3_per_d : 0.0;
     // Ratios are keyed in as flows: the advised ratio times the train's influent flow now.
@@ -355,26 +354,7 @@ std::string operator_standin::apply(std::size_t index, double value, const plant
     if (const register_entry* e = find_setpoint(scenario_.registers, to.kind, to.train, to.zone)) {
         setpoint = std::clamp(setpoint, e->write_min, e->write_max);
     }
-    switch (to.kind) {
-    case setpoint_kind::do_setpoint:
-        tc.zones.at(to.zone).do_setpoint_g_per_m3 = setpoint;
-        break;
-    case setpoint_kind::recycle_flow:
-        tc.recycle_flow_m3_per_d = setpoint;
-        break;
-    case setpoint_kind::ras_flow:
-        tc.ras_flow_m3_per_d = setpoint;
-        break;
-    case setpoint_kind::ras_ratio:
-        tc.ras_ratio = setpoint;
-        break;
-    case setpoint_kind::was_flow:
-        tc.was_flow_m3_per_d = setpoint;
-        break;
-    case setpoint_kind::kla:
-    case setpoint_kind::nitrate_setpoint:
-        break;
-    }
+    store_setpoint(u, to.kind, to.train, to.zone, setpoint);
     const std::string owner = kind == advisor_kind::aeration
                                   ? scenario_.plant.trains[to.train].zones[to.zone].name
                                   : scenario_.plant.trains[to.train].name;

@@ -142,6 +142,9 @@ struct write_result {
 [[nodiscard]] write_result apply_write(const register_map& map, std::uint16_t first,
                                        std::span<const std::uint16_t> words, plant_controls& u);
 
+// Stores a set point (canonical units) in `u`: per zone for do_setpoint and kla, per train else.
+void store_setpoint(plant_controls& u, setpoint_kind kind, std::size_t train, std::size_t zone, double value);
+
 // The writable entry of a set point (train, and zone for per-zone set points), or null.
 [[nodiscard]] const register_entry* find_setpoint(const register_map& map, setpoint_kind kind, std::size_t train,
                                                   std::size_t zone = 0);
