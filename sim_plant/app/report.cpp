@@ -1,5 +1,6 @@
 #include "report.hpp"
 
+#include <algorithm>
 #include <array>
 #include <cmath>
 #include <cstdio>
@@ -217,6 +218,38 @@ std::string status_line(const sim::scenario& s, const sim::simulation& m, double
     return buf.data();
 }
 
+std::string active_faults(const sim::scenario& s, const sim::simulation& m) {
+    std::string out;
+    const auto add = [&](std::string_view what) {
+        out += (out.empty() ? "" : ", ") + std::string{what};
+    };
+    for (const auto& [sensor, fault] : sim::sensor_faults_at(s.sensors, m.time_s())) {
+        add(s.sensors[sensor].name + " " + std::string{sim::to_string(s.sensors[sensor].faults[fault].kind)});
+    }
+    for (const sim::plant_event& e : m.events()) {
+        if (m.time_s() >= e.start_s && m.time_s() < e.end_s) {
+            add(sim::to_string(e.kind));
+        }
+    }
+    return out.empty() ? "none" : out;
+}
+
+std::string serving_status_line(const sim::scenario& s, const sim::simulation& m) {
+    const sim::plant_output o = m.outputs();
+    const double t = m.time_s();
+    const auto whole = static_cast<unsigned long long>(std::max(t, 0.0));
+    std::array<char, 256> buf{};
+    std::snprintf(buf.data(), buf.size(), "%s  day %llu %02llu:%02llu  Q %.0f m3/d  eff NH4 %.2f NO3 %.2f TSS %.1f mg/L  blanket",
+                  s.name.c_str(), whole / 86400, whole % 86400 / 3600, whole % 3600 / 60, o.influent.flow_m3_per_d,
+                  o.effluent[sim::asm1::s_nh], o.effluent[sim::asm1::s_no], o.effluent_tss_g_per_m3);
+    std::string line = buf.data();
+    for (std::size_t i = 0; i < o.trains.size(); ++i) {
+        std::snprintf(buf.data(), buf.size(), " %s %.2f", s.plant.trains[i].name.c_str(), o.trains[i].clarifier.blanket_m);
+        line += buf.data();
+    }
+    return line + " m  faults: " + active_faults(s, m);
+}
+
 void write_register_map(std::ostream& out, const sim::scenario& s) {
     out << "# Register map of the simulated PLC of " << s.name << (s.default_registers ? " (flocsim's default map)" : "") << "\n"
         << "# CAUTION: a simulator. Never point flocsim at a real plant network. floc is advisory: a\n"
@@ -250,11 +283,13 @@ void write_summary(std::ostream& out, const sim::scenario& s) {
     }
     out << "scenario OK: " << s.source_file << "\n"
         << "  name        " << s.name << "\n"
+        << (s.based_on.empty() ? std::string{} : "  based on    " + s.based_on + "\n")
         << "  plant       " << s.plant.trains.size() << (s.plant.trains.size() == 1 ? " train, " : " trains, ") << zones
         << " zones (" << number(volume) << " m3), " << s.plant.trains.size() << " clarifiers\n"
         << "  influent    " << (s.influent.kind == sim::influent_kind::generated ? "generated" : "constant") << ", mean "
         << number(s.influent.mean_flow_m3_per_d) << " m3/d, seed " << s.seed << "\n"
         << "  sensors     " << s.sensors.size() << " (" << faults << " scheduled faults), " << s.events.size() << " events\n"
+        << "  server      port " << s.server.port << ", " << s.server.max_connections << " connections at most\n"
         << "  registers   " << s.registers.entries.size() << " entries" << (s.default_registers ? " (default map)" : "") << "\n"
         << "  solver      " << (s.solver.stepper == sim::stepper_kind::dopri5 ? "dopri5" : "rosenbrock4") << ", rtol "
         << number(s.solver.relative_tolerance) << "\n";

@@ -20,6 +20,14 @@ void write_json(std::ostream& out, const sim::scenario& s, const sim::simulation
 // A one-line summary of the plant at the simulation's current time (for the status line).
 [[nodiscard]] std::string status_line(const sim::scenario& s, const sim::simulation& sim, double until_s);
 
+// The faults and events active at the simulation's current time ("a_oxic1_do stuck, link_loss"),
+// or "none".
+[[nodiscard]] std::string active_faults(const sim::scenario& s, const sim::simulation& sim);
+
+// The live status line of a served run: plant day and time, influent flow, effluent NH4, NO3 and
+// TSS, the blanket of each clarifier, the active faults.
+[[nodiscard]] std::string serving_status_line(const sim::scenario& s, const sim::simulation& sim);
+
 // The register map as a table, with the cautions.
 void write_register_map(std::ostream& out, const sim::scenario& s);
 

@@ -1,6 +1,7 @@
 // flocsim run as a real process: --help, --version, --check-scenario, headless runs with CSV and
 // JSON output, and the exit codes (sysexits, as documented in --help).
 #include "process.hpp"
+#include "test_files.hpp"
 
 #include <gtest/gtest.h>
 
@@ -12,6 +13,7 @@
 namespace {
 
 namespace fs = std::filesystem;
+using floc::sim::test::slurp;
 using floc::test::run_process;
 
 const fs::path source_dir{FLOC_SOURCE_DIR};
@@ -19,27 +21,18 @@ const std::string flocsim{FLOCSIM_PATH};
 
 std::string scenario(const std::string& name) { return (source_dir / "sim_plant/scenarios" / (name + ".toml")).string(); }
 
-fs::path temp_dir() {
-    const fs::path d = fs::temp_directory_path() / ("flocsim-test-" + std::to_string(::getpid()));
-    fs::create_directories(d);
-    return d;
-}
-
-std::string slurp(const fs::path& p) {
-    std::ifstream in(p);
-    std::ostringstream s;
-    s << in.rdbuf();
-    return s.str();
-}
-
 TEST(FlocsimCli, HelpDocumentsEveryOptionAndTheCautions) {
     const auto r = run_process({flocsim, "--help"});
     EXPECT_EQ(r.exit_code, 0);
     for (const char* option : {"--scenario", "--check-scenario", "--for", "--to-steady-state", "--csv", "--csv-interval",
-                               "--json", "--quiet", "--print-registers", "--version"}) {
+                               "--json", "--quiet", "--print-registers", "--version", "--serve", "--bind", "--port",
+                               "--allow-non-loopback", "--speed", "--fast", "--lockstep", "--status", "--trend",
+                               "--trend-interval", "--client-log", "--hmi", "--hmi-config", "--apply-advice",
+                               "--show-advice"}) {
         EXPECT_NE(r.out.find(option), std::string::npos) << option;
     }
     EXPECT_NE(r.out.find("Never point it"), std::string::npos);
+    EXPECT_NE(r.out.find("never a write"), std::string::npos);
     EXPECT_NE(r.out.find("advisory only"), std::string::npos);
     EXPECT_NE(r.out.find("licensed operator"), std::string::npos);
     EXPECT_NE(r.out.find("local"), std::string::npos);
@@ -68,14 +61,8 @@ TEST(FlocsimCli, CheckScenario) {
     EXPECT_NE(bad.err.find(broken + ":40:10: train[0].zone[0].volume: found \"500 m2\""), std::string::npos) << bad.err;
 }
 
-TEST(FlocsimCli, ServingIsNotPartOfThisBuild) {
-    const auto r = run_process({flocsim, "--scenario", scenario("marrowby")});
-    EXPECT_EQ(r.exit_code, 69);
-    EXPECT_NE(r.err.find("not part of this build"), std::string::npos);
-}
-
 TEST(FlocsimCli, HeadlessRunWritesTheTrendAndTheFinalState) {
-    const fs::path dir = temp_dir();
+    const fs::path dir = floc::sim::test::temp_dir("flocsim-test");
     const fs::path csv = dir / "trend.csv";
     const fs::path json = dir / "final.json";
     const auto r = run_process({flocsim, "--scenario", scenario("marrowby"), "--for", "6h", "--csv", csv.string(),
@@ -114,7 +101,7 @@ TEST(FlocsimCli, HeadlessRunWritesTheTrendAndTheFinalState) {
 }
 
 TEST(FlocsimCli, SteadyStateOfTheBenchmark) {
-    const fs::path dir = temp_dir();
+    const fs::path dir = floc::sim::test::temp_dir("flocsim-test");
     const fs::path json = dir / "steady.json";
     const auto r = run_process({flocsim, "--scenario", scenario("bsm1-validation"), "--to-steady-state", "--json",
                                 json.string(), "--quiet"},

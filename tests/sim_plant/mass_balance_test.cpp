@@ -22,8 +22,8 @@ constexpr double run_days = 2.0;
 
 TEST(MassBalance, OxygenDemandAndNitrogenCloseOverADynamicRun) {
     scenario s = test::marrowby();
-    s.events.push_back({event_kind::blower_trip, 0.4 * 86400.0, 0.5 * 86400.0, 1, 0.0});
-    s.events.push_back({event_kind::power_failure, 0.52 * 86400.0, 0.55 * 86400.0, no_index, 0.0});
+    s.events.push_back(test::scheduled(event_kind::blower_trip, 0.4 * 86400.0, 0.5 * 86400.0, 1, 0.0));
+    s.events.push_back(test::scheduled(event_kind::power_failure, 0.52 * 86400.0, 0.55 * 86400.0, no_index, 0.0));
     s.influent.rain.events_per_week = 7.0;  // a rain event every day
     simulation sim = make_simulation(s, test::marrowby_steady_state());
     const plant_model& model = sim.model();

@@ -145,10 +145,17 @@ TEST(Registers, HoldingWritesChangeSetPointsAllOrNothing) {
     r = apply_write(s.registers, 1012, w200, u);
     EXPECT_EQ(r.status, write_status::ok) << r.reason;
     EXPECT_NEAR(u.trains[1].ras_flow_m3_per_d, 4800.0, 1e-3);
-    // Outside the limits (0.2..6 mg/L), half a float, read-only, unmapped, and a write spanning
-    // a good and a bad register: refused, nothing changed.
+    // Outside the limits (0.2..6 mg/L): clamped to them, as a PLC's limit block does.
+    r = apply_write(s.registers, 1002, encode_value(f, 9.0), u);
+    EXPECT_EQ(r.status, write_status::ok) << r.reason;
+    EXPECT_EQ(u.trains[0].zones[2].do_setpoint_g_per_m3, 6.0);
+    EXPECT_EQ(r.clamped, std::vector<std::string>{"a_oxic2.do_setpoint"});
+    r = apply_write(s.registers, 1002, encode_value(f, 0.05), u);
+    EXPECT_EQ(u.trains[0].zones[2].do_setpoint_g_per_m3, 0.2);
+    // Not a number, half a float, read-only, unmapped, and a write spanning a good and a bad
+    // register: refused, nothing changed.
     const plant_controls before = u;
-    EXPECT_EQ(apply_write(s.registers, 1002, encode_value(f, 9.0), u).status, write_status::illegal_value);
+    EXPECT_EQ(apply_write(s.registers, 1006, encode_value(f, std::nan("")), u).status, write_status::not_a_number);
     EXPECT_EQ(apply_write(s.registers, 1001, std::vector<std::uint16_t>{0}, u).status, write_status::illegal_address);
     EXPECT_EQ(apply_write(s.registers, 100, std::vector<std::uint16_t>{3}, u).status, write_status::illegal_address);
     EXPECT_EQ(apply_write(s.registers, 5000, std::vector<std::uint16_t>{1}, u).status, write_status::illegal_address);
@@ -157,6 +164,23 @@ TEST(Registers, HoldingWritesChangeSetPointsAllOrNothing) {
     both.push_back(0);
     EXPECT_EQ(apply_write(s.registers, 1006, both, u).status, write_status::illegal_address);
     EXPECT_EQ(u.trains[1].zones[2].do_setpoint_g_per_m3, before.trains[1].zones[2].do_setpoint_g_per_m3);
+    EXPECT_EQ(u.trains[0].zones[2].do_setpoint_g_per_m3, 0.2);
+}
+
+TEST(Registers, SetPointEntriesAndPlantTimeReads) {
+    const scenario& s = test::marrowby();
+    const register_entry* ras_b = find_setpoint(s.registers, setpoint_kind::ras_flow, 1);
+    ASSERT_NE(ras_b, nullptr);
+    EXPECT_EQ(ras_b->address, 1012);
+    const register_entry* do_b2 = find_setpoint(s.registers, setpoint_kind::do_setpoint, 1, 2);
+    ASSERT_NE(do_b2, nullptr);
+    EXPECT_EQ(do_b2->address, 1006);
+    EXPECT_EQ(find_setpoint(s.registers, setpoint_kind::kla, 0, 1), nullptr);  // not in Marrowby's map
+    // Plant time at input registers 0-1.
+    EXPECT_TRUE(touches_plant_time(s.registers, register_table::input_registers, 0, 40));
+    EXPECT_TRUE(touches_plant_time(s.registers, register_table::input_registers, 1, 1));
+    EXPECT_FALSE(touches_plant_time(s.registers, register_table::input_registers, 2, 38));
+    EXPECT_FALSE(touches_plant_time(s.registers, register_table::holding_registers, 0, 2));
 }
 
 TEST(Registers, DefaultMapAsDocumented) {
@@ -182,7 +206,7 @@ TEST(Registers, DefaultMapAsDocumented) {
 
 TEST(Registers, PowerFailureAndBlowersFollowThePlant) {
     scenario s = test::marrowby();
-    s.events = {{event_kind::power_failure, 60.0, 600.0, no_index, 0.0}};
+    s.events = {test::scheduled(event_kind::power_failure, 60.0, 600.0, no_index, 0.0)};
     simulation sim = make_simulation(s, test::marrowby_steady_state());
     ASSERT_TRUE(sim.advance_to(120.0));
     const plant_output out = sim.outputs();

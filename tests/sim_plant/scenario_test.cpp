@@ -1,6 +1,7 @@
 // Scenario files: every bundled scenario loads; broken scenarios (tests/sim_plant/broken) are
 // refused with exactly the errors their "# expect: LINE:COL PATH | EXPECTED" lines announce.
 #include "support.hpp"
+#include "test_files.hpp"
 
 #include <gtest/gtest.h>
 
@@ -94,6 +95,84 @@ TEST(Scenarios, BrokenScenariosReportTheAnnouncedErrors) {
         }
     }
     EXPECT_GE(files, 10U);
+}
+
+TEST(Scenarios, TheFaultBenchIsMarrowbyWithItsOwnSchedule) {
+    const scenario base = test::marrowby();
+    const scenario s = test::load("marrowby-faults");
+    EXPECT_EQ(s.name, "Marrowby WRW (fault bench)");
+    EXPECT_EQ(fs::path{s.based_on}.filename(), "marrowby.toml");
+    EXPECT_EQ(s.plant.trains.size(), base.plant.trains.size());
+    ASSERT_EQ(s.sensors.size(), base.sensors.size());
+    EXPECT_EQ(s.registers.entries.size(), base.registers.entries.size());
+    EXPECT_EQ(s.server.port, 15020);
+    EXPECT_EQ(s.seed, base.seed);
+    // The base's faults are dropped; the three of the bench are in place.
+    std::size_t faults = 0;
+    for (const sensor_spec& sn : s.sensors) {
+        faults += sn.faults.size();
+    }
+    EXPECT_EQ(faults, 3U);
+    ASSERT_EQ(s.find_sensor("a_oxic1_do")->faults.size(), 1U);
+    EXPECT_EQ(s.find_sensor("a_oxic1_do")->faults[0].kind, fault_kind::stuck);
+    EXPECT_EQ(s.find_sensor("a_oxic1_do")->faults[0].start_s, 600.0);
+    EXPECT_EQ(s.find_sensor("a_oxic1_do")->faults[0].end_s, 2400.0);
+    EXPECT_NEAR(s.find_sensor("a_anoxic_no3")->faults[0].magnitude, 48.0, 1e-12);
+    EXPECT_EQ(s.find_sensor("a_oxic2_nh4")->faults[0].kind, fault_kind::dropout);
+    EXPECT_TRUE(s.find_sensor("b_blanket")->faults.empty());
+    // The protocol faults, in schedule order.
+    ASSERT_EQ(s.events.size(), 5U);
+    const std::vector<std::pair<event_kind, double>> schedule{
+        {event_kind::link_loss, 3600.0},          {event_kind::slow_replies, 4500.0},
+        {event_kind::exception_replies, 5400.0},  {event_kind::wrong_transaction_id, 6300.0},
+        {event_kind::dropped_connections, 7200.0}};
+    for (std::size_t i = 0; i < schedule.size(); ++i) {
+        EXPECT_EQ(s.events[i].kind, schedule[i].first) << i;
+        EXPECT_EQ(s.events[i].start_s, schedule[i].second) << i;
+        EXPECT_EQ(s.events[i].end_s, schedule[i].second + 300.0) << i;
+    }
+    EXPECT_EQ(s.events[1].delay_s, 1.5);
+    EXPECT_EQ(s.events[2].function, std::optional<std::uint8_t>{4});
+    EXPECT_EQ(s.events[2].exception, 4);
+}
+
+TEST(Scenarios, ABaseScenarioMustBeReadableValidAndNotBasedOnAnother) {
+    const fs::path dir = test::temp_dir("flocsim-overlay");
+    const auto write = [&](const std::string& name, const std::string& text) {
+        std::ofstream(dir / name) << text;
+        return (dir / name).string();
+    };
+    const std::string minimal = (source_dir / "tests/sim_plant/valid/minimal.toml").string();
+    const std::string first = write("first.toml", "scenario_version = 1\nbased_on = \"" + minimal + "\"\n");
+    const scenario_result ok = load_scenario_file(first);
+    ASSERT_TRUE(ok.ok()) << (ok.errors.empty() ? "" : ok.errors.front().message());
+    EXPECT_EQ(ok.value->based_on, minimal);
+
+    // A chain of bases, or a file based on itself, is refused in the base it reaches.
+    const std::string second_path = write("second.toml", "scenario_version = 1\nbased_on = \"first.toml\"\n");
+    const scenario_result second = load_scenario_file(second_path);
+    ASSERT_EQ(second.errors.size(), 2U);
+    EXPECT_EQ(second.errors[0].file, first);
+    EXPECT_EQ(second.errors[0].path, "based_on");
+    EXPECT_EQ(second.errors[0].expected, "a base scenario that is not based on another");
+    EXPECT_EQ(second.errors[1].file, second_path);
+    EXPECT_EQ(second.errors[1].expected, "a valid base scenario (its errors are listed above)");
+    const scenario_result itself = load_scenario_file(
+        write("itself.toml", "scenario_version = 1\nbased_on = \"itself.toml\"\n[[fault]]\nsensor = \"x\"\n"));
+    ASSERT_EQ(itself.errors.size(), 2U);  // and the [[fault]] it could not read is not reported
+    EXPECT_EQ(itself.errors[0].expected, "a base scenario that is not based on another");
+
+    const scenario_result missing = load_scenario_file(write("missing.toml", "scenario_version = 1\nbased_on = \"nope.toml\"\n"));
+    ASSERT_EQ(missing.errors.size(), 1U);
+    EXPECT_EQ(missing.errors[0].expected, "the path of a readable scenario file, relative to this one");
+
+    // A broken base: its own errors (in its own file) come first, then the overlay's.
+    const std::string broken = (source_dir / "tests/sim_plant/broken/wrong-unit.toml").string();
+    const scenario_result bad = load_scenario_file(write("bad.toml", "scenario_version = 1\nbased_on = \"" + broken + "\"\n"));
+    ASSERT_GE(bad.errors.size(), 2U);
+    EXPECT_EQ(bad.errors.front().file, broken);
+    EXPECT_EQ(bad.errors.back().expected, "a valid base scenario (its errors are listed above)");
+    fs::remove_all(dir);
 }
 
 TEST(Scenarios, AMissingFileIsUnreadable) {

@@ -1,9 +1,12 @@
 // Sensor models and the fault schedule (definitions of our own).
 #include "floc/sim/sensors.hpp"
 
+#include "support.hpp"
+
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <limits>
 
 namespace {
 
@@ -96,10 +99,10 @@ TEST(Sensor, EveryFaultKind) {
 
 TEST(Events, LinkStateAndAvailability) {
     const std::vector<plant_event> events{
-        {event_kind::link_loss, 100.0, 200.0, no_index, 0.0},
-        {event_kind::slow_replies, 150.0, 400.0, no_index, 1.5},
-        {event_kind::blower_trip, 500.0, 600.0, 1, 0.0},
-        {event_kind::power_failure, 700.0, 800.0, no_index, 0.0},
+        test::scheduled(event_kind::link_loss, 100.0, 200.0, no_index, 0.0),
+        test::scheduled(event_kind::slow_replies, 150.0, 400.0, no_index, 1.5),
+        test::scheduled(event_kind::blower_trip, 500.0, 600.0, 1, 0.0),
+        test::scheduled(event_kind::power_failure, 700.0, 800.0, no_index, 0.0),
     };
     EXPECT_TRUE(link_at(events, 50.0).up);
     EXPECT_FALSE(link_at(events, 150.0).up);
@@ -116,6 +119,46 @@ TEST(Events, LinkStateAndAvailability) {
     EXPECT_FALSE(u.trains[0].pumps_available);
     apply_events(events, 850.0, u);
     EXPECT_TRUE(u.trains[0].pumps_available && u.trains[1].blowers_available);
+}
+
+TEST(Events, ProtocolFaultsOnTheirSchedule) {
+    std::vector<plant_event> events{
+        test::scheduled(event_kind::link_loss, 100.0, 200.0),
+        test::scheduled(event_kind::exception_replies, 150.0, 400.0),
+        test::scheduled(event_kind::blower_trip, 500.0, 600.0, 1),
+        test::scheduled(event_kind::wrong_transaction_id, 650.0, 700.0),
+    };
+    EXPECT_TRUE(is_protocol_fault(event_kind::dropped_connections));
+    EXPECT_FALSE(is_protocol_fault(event_kind::power_failure));
+    // Link loss is the server's to act on, not a fault rule.
+    EXPECT_TRUE(protocol_faults_at(events, 120.0).empty());
+    EXPECT_EQ(protocol_faults_at(events, 160.0), std::vector<std::size_t>{1});
+    EXPECT_TRUE(protocol_faults_at(events, 550.0).empty());  // a blower trip is the plant's
+    EXPECT_EQ(protocol_faults_at(events, 660.0), std::vector<std::size_t>{3});
+    // The instants the server's rules change; blower trips are not among them.
+    EXPECT_EQ(next_protocol_change_after(events, 0.0), 100.0);
+    EXPECT_EQ(next_protocol_change_after(events, 100.0), 150.0);
+    EXPECT_EQ(next_protocol_change_after(events, 400.0), 650.0);
+    EXPECT_EQ(next_protocol_change_after(events, 700.0), std::numeric_limits<double>::infinity());
+    EXPECT_EQ(to_string(event_kind::wrong_transaction_id), "wrong_transaction_id");
+}
+
+TEST(Events, ActiveSensorFaults) {
+    sensor_spec a;
+    a.name = "a";
+    sensor_fault stuck;
+    stuck.kind = fault_kind::stuck;
+    stuck.start_s = 10.0;
+    stuck.end_s = 20.0;
+    sensor_fault offset;
+    offset.kind = fault_kind::offset;
+    offset.start_s = 15.0;  // a calibration offset lasts
+    a.faults = {stuck, offset};
+    const std::vector<sensor_spec> sensors{sensor_spec{}, a};
+    EXPECT_TRUE(sensor_faults_at(sensors, 5.0).empty());
+    EXPECT_EQ(sensor_faults_at(sensors, 16.0), (std::vector<std::pair<std::size_t, std::size_t>>{{1, 0}, {1, 1}}));
+    EXPECT_EQ(sensor_faults_at(sensors, 1e6), (std::vector<std::pair<std::size_t, std::size_t>>{{1, 1}}));
+    EXPECT_EQ(to_string(fault_kind::offset), "offset");
 }
 
 } // namespace

@@ -18,6 +18,18 @@ namespace floc::sim::test {
 [[nodiscard]] const scenario& bsm1();
 [[nodiscard]] const std::vector<double>& bsm1_steady_state();
 
+// A scheduled event; the protocol-fault fields keep their defaults.
+[[nodiscard]] inline plant_event scheduled(event_kind kind, double start_s, double end_s, std::size_t train = no_index,
+                                           double delay_s = 0.0) {
+    plant_event e;
+    e.kind = kind;
+    e.start_s = start_s;
+    e.end_s = end_s;
+    e.train = train;
+    e.delay_s = delay_s;
+    return e;
+}
+
 // Marrowby and its steady state at the mean influent, computed once.
 [[nodiscard]] const scenario& marrowby();
 [[nodiscard]] const std::vector<double>& marrowby_steady_state();

@@ -63,11 +63,13 @@ double setpoint_value(const register_entry& e, const plant_controls& u) {
     return nan;
 }
 
-void store_setpoint(const register_entry& e, double v, plant_controls& u) {
-    train_controls& t = u.trains.at(e.train);
-    switch (e.setpoint) {
-    case setpoint_kind::do_setpoint: t.zones.at(e.zone).do_setpoint_g_per_m3 = v; break;
-    case setpoint_kind::kla: t.zones.at(e.zone).kla_per_d = v; break;
+} // namespace
+
+void store_setpoint(plant_controls& u, setpoint_kind kind, std::size_t train, std::size_t zone, double v) {
+    train_controls& t = u.trains.at(train);
+    switch (kind) {
+    case setpoint_kind::do_setpoint: t.zones.at(zone).do_setpoint_g_per_m3 = v; break;
+    case setpoint_kind::kla: t.zones.at(zone).kla_per_d = v; break;
     case setpoint_kind::ras_flow: t.ras_flow_m3_per_d = v; break;
     case setpoint_kind::ras_ratio: t.ras_ratio = v; break;
     case setpoint_kind::was_flow: t.was_flow_m3_per_d = v; break;
@@ -75,8 +77,6 @@ void store_setpoint(const register_entry& e, double v, plant_controls& u) {
     case setpoint_kind::nitrate_setpoint: t.nitrate_setpoint_g_per_m3 = v; break;
     }
 }
-
-} // namespace
 
 register_map default_register_map(const plant_spec& plant, const std::vector<sensor_spec>& sensors) {
     register_map map;
@@ -293,6 +293,7 @@ write_result apply_write(const register_map& map, std::uint16_t first, std::span
     const std::size_t last = std::size_t{first} + words.size();  // one past
     plant_controls next = u;
     std::vector<bool> covered(words.size(), false);
+    std::vector<std::string> clamped;
     for (const register_entry& e : map.entries) {
         if (e.table != register_table::holding_registers) {
             continue;
@@ -304,29 +305,54 @@ write_result apply_write(const register_map& map, std::uint16_t first, std::span
         }
         if (!e.writable || e.bit) {
             return {write_status::illegal_address,
-                    "holding register " + std::to_string(a0) + " (" + e.label + ") is read only"};
+                    "holding register " + std::to_string(a0) + " (" + e.label + ") is read only", {}};
         }
         if (a0 < first || a1 > last) {
-            return {write_status::illegal_address, "the write covers only part of the 32-bit value at holding register " +
-                                                       std::to_string(a0) + " (" + e.label + ")"};
+            return {write_status::illegal_address,
+                    "the write covers only part of the 32-bit value at holding register " + std::to_string(a0) + " (" +
+                        e.label + ")",
+                    {}};
         }
         const double v = decode_value(e, words.subspan(a0 - first, e.width()));
-        if (!std::isfinite(v) || v < e.write_min || v > e.write_max) {
-            return {write_status::illegal_value, "value for " + e.label + " is outside its limits"};
+        if (!std::isfinite(v)) {
+            return {write_status::not_a_number, "the value for " + e.label + " is not a number", {}};
         }
-        store_setpoint(e, v, next);
+        const double in_force = std::clamp(v, e.write_min, e.write_max);
+        if (in_force != v) {
+            clamped.push_back(e.label);
+        }
+        store_setpoint(next, e.setpoint, e.train, e.zone, in_force);
         for (std::size_t a = a0; a < a1; ++a) {
             covered[a - first] = true;
         }
     }
     for (std::size_t i = 0; i < covered.size(); ++i) {
         if (!covered[i]) {
-            return {write_status::illegal_address,
-                    "no writable register at holding register " + std::to_string(first + i)};
+            return {write_status::illegal_address, "no writable register at holding register " + std::to_string(first + i),
+                    {}};
         }
     }
     u = std::move(next);
-    return {};
+    return {write_status::ok, {}, std::move(clamped)};
+}
+
+const register_entry* find_setpoint(const register_map& map, setpoint_kind kind, std::size_t train, std::size_t zone) {
+    const bool per_zone = kind == setpoint_kind::do_setpoint || kind == setpoint_kind::kla;
+    for (const register_entry& e : map.entries) {
+        if (e.source == register_source::setpoint && e.writable && e.setpoint == kind && e.train == train &&
+            (!per_zone || e.zone == zone)) {
+            return &e;
+        }
+    }
+    return nullptr;
+}
+
+bool touches_plant_time(const register_map& map, register_table t, std::uint16_t first, std::uint16_t count) {
+    const std::size_t last = std::size_t{first} + count;  // one past
+    return std::any_of(map.entries.begin(), map.entries.end(), [&](const register_entry& e) {
+        return e.source == register_source::plant_time && e.table == t && e.address < last &&
+               std::size_t{e.address} + e.width() > first;
+    });
 }
 
 } // namespace floc::sim

@@ -115,6 +115,19 @@ void sensor::sample(double t_s, double true_value) {
     has_reading_ = true;
 }
 
+bool is_protocol_fault(event_kind kind) {
+    switch (kind) {
+    case event_kind::link_loss:
+    case event_kind::slow_replies:
+    case event_kind::dropped_connections:
+    case event_kind::exception_replies:
+    case event_kind::wrong_transaction_id: return true;
+    case event_kind::blower_trip:
+    case event_kind::power_failure: return false;
+    }
+    return false;
+}
+
 link_state link_at(const std::vector<plant_event>& events, double t_s) {
     link_state s;
     for (const plant_event& e : events) {
@@ -128,6 +141,70 @@ link_state link_at(const std::vector<plant_event>& events, double t_s) {
         }
     }
     return s;
+}
+
+std::vector<std::size_t> protocol_faults_at(const std::vector<plant_event>& events, double t_s) {
+    std::vector<std::size_t> out;
+    for (std::size_t i = 0; i < events.size(); ++i) {
+        const plant_event& e = events[i];
+        if (is_protocol_fault(e.kind) && e.kind != event_kind::link_loss && active(t_s, e.start_s, e.end_s)) {
+            out.push_back(i);
+        }
+    }
+    return out;
+}
+
+double next_protocol_change_after(const std::vector<plant_event>& events, double t_s) {
+    double next = std::numeric_limits<double>::infinity();
+    for (const plant_event& e : events) {
+        if (!is_protocol_fault(e.kind)) {
+            continue;
+        }
+        if (e.start_s > t_s) {
+            next = std::min(next, e.start_s);
+        }
+        if (e.end_s > t_s) {
+            next = std::min(next, e.end_s);
+        }
+    }
+    return next;
+}
+
+std::vector<std::pair<std::size_t, std::size_t>> sensor_faults_at(const std::vector<sensor_spec>& sensors, double t_s) {
+    std::vector<std::pair<std::size_t, std::size_t>> out;
+    for (std::size_t i = 0; i < sensors.size(); ++i) {
+        for (std::size_t f = 0; f < sensors[i].faults.size(); ++f) {
+            const sensor_fault& fault = sensors[i].faults[f];
+            if (active(t_s, fault.start_s, fault.end_s)) {
+                out.emplace_back(i, f);
+            }
+        }
+    }
+    return out;
+}
+
+std::string_view to_string(event_kind kind) {
+    switch (kind) {
+    case event_kind::link_loss: return "link_loss";
+    case event_kind::slow_replies: return "slow_replies";
+    case event_kind::dropped_connections: return "dropped_connections";
+    case event_kind::exception_replies: return "exception_replies";
+    case event_kind::wrong_transaction_id: return "wrong_transaction_id";
+    case event_kind::blower_trip: return "blower_trip";
+    case event_kind::power_failure: return "power_failure";
+    }
+    return "?";
+}
+
+std::string_view to_string(fault_kind kind) {
+    switch (kind) {
+    case fault_kind::stuck: return "stuck";
+    case fault_kind::drift: return "drift";
+    case fault_kind::spike: return "spike";
+    case fault_kind::dropout: return "dropout";
+    case fault_kind::offset: return "offset";
+    }
+    return "?";
 }
 
 bool power_failed_at(const std::vector<plant_event>& events, double t_s) {

@@ -357,6 +357,19 @@ bool simulation::advance_to(double t_s) {
     return true;
 }
 
+void simulation::sample(double t_s, const double* x) {
+    const plant_output out = model_.outputs(x, t_s / seconds_per_day, controls_);
+    for (std::size_t i = 0; i < sensors_.size(); ++i) {
+        if (next_sample_s_[i] <= t_s) {
+            sensors_[i].sample(t_s, read_signal(out, sensors_[i].spec().signal));
+            next_sample_s_[i] = sensors_[i].next_sample_after(t_s);
+            ++engine_->stats.samples;
+        }
+    }
+}
+
+void simulation::sample_due() { sample(time_s_, state_.data()); }
+
 bool simulation::integrate_to(double t_stop_s) {
     const plant_system sys{&model_, &controls_, &engine_->count};
     const fd_jacobian<plant_system> jac{sys};
@@ -399,14 +412,7 @@ bool simulation::integrate_to(double t_stop_s) {
                 },
                 engine_->stepper);
             if (next_sample <= t_stop_s) {
-                const plant_output out = model_.outputs(&x[0], t_obs_d, controls_);
-                for (std::size_t i = 0; i < sensors_.size(); ++i) {
-                    if (next_sample_s_[i] <= t_obs) {
-                        sensors_[i].sample(t_obs, read_signal(out, sensors_[i].spec().signal));
-                        next_sample_s_[i] = sensors_[i].next_sample_after(t_obs);
-                        ++engine_->stats.samples;
-                    }
-                }
+                sample(t_obs, x.data());
                 if (next_sample < t_stop_s) {
                     continue;
                 }

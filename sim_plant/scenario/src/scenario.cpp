@@ -2,9 +2,11 @@
 
 #include "floc/config/table_reader.hpp"
 
+#include <algorithm>
 #include <array>
 #include <cmath>
 #include <cstdio>
+#include <filesystem>
 #include <fstream>
 #include <limits>
 #include <map>
@@ -74,6 +76,11 @@ void read_components(table_reader& r, asm1::vector& c) {
     }
 }
 
+// A scenario file read as one that may be based on another (any), or as the base of one (base:
+// a based_on key is then an error, so that no chain or cycle of bases is ever followed).
+enum class load_as : std::uint8_t { any, base };
+scenario_result load_file_as(const std::string& path, load_as as);
+
 struct name_index {
     std::map<std::string, std::pair<std::size_t, std::size_t>, std::less<>> zones;  // train, zone
     std::map<std::string, std::size_t, std::less<>> trains;
@@ -85,11 +92,7 @@ public:
     loader(diagnostics& d, scenario& s) : d_(d), s_(s) {}
 
     void read(table_reader& root) {
-        const auto version = root.integer("scenario_version", 1, 1000, need::required);
-        if (version && *version != scenario_schema_version) {
-            d_.error(root.pos_of("scenario_version"), "scenario_version", "version " + std::to_string(*version),
-                     "scenario_version = " + std::to_string(scenario_schema_version) + " (the version this flocsim reads)");
-        }
+        read_version(root);
         root.table("scenario", need::required, [&](table_reader& r) { read_scenario(r); });
         root.table("solver", need::optional, [&](table_reader& r) { read_solver(r); });
         root.table("initial", need::optional, [&](table_reader& r) { read_initial(r); });
@@ -107,6 +110,7 @@ public:
         check_shares(root);
         root.each_table("sensor", [&](table_reader& r, std::size_t) { read_sensor(r); });
         root.each_table("event", [&](table_reader& r, std::size_t) { read_event(r); });
+        root.table("server", need::optional, [&](table_reader& r) { read_server(r); });
         if (root.has("registers")) {
             s_.default_registers = false;
             root.table("registers", need::optional, [&](table_reader& r) { read_registers(r); });
@@ -115,7 +119,103 @@ public:
         }
     }
 
+    // A scenario based on another: the base file's plant, then this file's changes (a new name,
+    // seed and server, and the fault schedule). Only one level: a base cannot be based on another.
+    void read_overlay(table_reader& root, std::string_view source_name) {
+        read_version(root);
+        // Without a base the changes cannot be read; they are not reported as unknown keys.
+        const auto give_up = [&] { root.skip({"base_faults", "scenario", "server", "fault", "event"}); };
+        const std::optional<std::string> base = root.string("based_on", need::required);
+        if (!base) {
+            give_up();
+            return;
+        }
+        for (const std::string_view key : {"solver", "initial", "influent", "biology", "oxygen", "train", "sensor", "registers"}) {
+            if (root.has(key)) {
+                d_.error(root.pos_of(key), std::string{key}, "the table " + quote(key) + " in a scenario based on another",
+                         "only [scenario], [server], [[fault]] and [[event]] here (the plant is the base's; change it there)");
+                root.skip({key});
+            }
+        }
+        const std::filesystem::path here{std::string{source_name}};
+        const std::filesystem::path base_path =
+            std::filesystem::path{*base}.is_absolute() ? std::filesystem::path{*base} : here.parent_path() / *base;
+        scenario_result b = load_file_as(base_path.string(), load_as::base);
+        if (b.unreadable) {
+            d_.error(root.pos_of("based_on"), "based_on", "the file " + quote(base_path.string()) + " that cannot be opened",
+                     "the path of a readable scenario file, relative to this one");
+            give_up();
+            return;
+        }
+        if (!b.ok()) {
+            base_errors_ = std::move(b.errors);
+            d_.error(root.pos_of("based_on"), "based_on", "the invalid scenario " + quote(base_path.string()),
+                     "a valid base scenario (its errors are listed above)");
+            give_up();
+            return;
+        }
+        const std::string source = s_.source_file;
+        s_ = std::move(*b.value);
+        s_.source_file = source;
+        s_.based_on = base_path.string();
+        index_names();
+        const auto keep = root.choice<bool>("base_faults", {{"keep", true}, {"drop", false}}, need::optional);
+        if (keep && !*keep) {
+            for (sensor_spec& sn : s_.sensors) {
+                sn.faults.clear();
+            }
+            s_.events.clear();
+        }
+        root.table("scenario", need::optional, [&](table_reader& r) {
+            set(r.string("name", need::optional), s_.name);
+            set(r.string("description", need::optional), s_.description);
+            if (const auto seed = r.integer("seed", 0, std::numeric_limits<std::int64_t>::max(), need::optional)) {
+                s_.seed = static_cast<std::uint64_t>(*seed);
+            }
+        });
+        root.table("server", need::optional, [&](table_reader& r) { read_server(r); });
+        root.each_table("fault", [&](table_reader& f, std::size_t) {
+            const auto name = f.string("sensor", need::required);
+            if (!name) {
+                return;
+            }
+            const auto it = names_.sensors.find(*name);
+            if (it == names_.sensors.end()) {
+                f.diags().error(f.pos_of("sensor"), f.path_of("sensor"), "the sensor " + quote(*name),
+                                "the name of a [[sensor]] of the base scenario");
+                f.skip({"kind", "start", "end", "duration", "per_day", "magnitude", "hold"});
+                return;
+            }
+            sensor_spec& sn = s_.sensors[it->second];
+            read_fault(f, quantity_of(sn), sn);
+        });
+        root.each_table("event", [&](table_reader& r, std::size_t) { read_event(r); });
+    }
+
+    [[nodiscard]] std::vector<config::diagnostic> take_base_errors() { return std::move(base_errors_); }
+
 private:
+    void read_version(table_reader& root) {
+        const auto version = root.integer("scenario_version", 1, 1000, need::required);
+        if (version && *version != scenario_schema_version) {
+            d_.error(root.pos_of("scenario_version"), "scenario_version", "version " + std::to_string(*version),
+                     "scenario_version = " + std::to_string(scenario_schema_version) + " (the version this flocsim reads)");
+        }
+    }
+
+    void index_names() {
+        names_ = {};
+        for (std::size_t t = 0; t < s_.plant.trains.size(); ++t) {
+            names_.trains.emplace(s_.plant.trains[t].name, t);
+            for (std::size_t z = 0; z < s_.plant.trains[t].zones.size(); ++z) {
+                names_.zones.emplace(s_.plant.trains[t].zones[z].name, std::pair{t, z});
+            }
+        }
+        for (std::size_t i = 0; i < s_.sensors.size(); ++i) {
+            names_.sensors.emplace(s_.sensors[i].name, i);
+        }
+    }
+
     void read_scenario(table_reader& r) {
         set(r.string("name", need::required), s_.name);
         set(r.string("description", need::optional), s_.description);
@@ -533,23 +633,25 @@ private:
             s.range_min = range->first;
             s.range_max = range->second;
         }
-        r.each_table("fault", [&](table_reader& f, std::size_t) {
-            sensor_fault fault;
-            set(f.choice<fault_kind>("kind", {{"stuck", fault_kind::stuck}, {"drift", fault_kind::drift}, {"spike", fault_kind::spike},
-                                              {"dropout", fault_kind::dropout}, {"offset", fault_kind::offset}},
-                                     need::required),
-                fault.kind);
-            read_window(f, fault.start_s, fault.end_s);
-            if (fault.kind == fault_kind::drift) {
-                set(f.quantity("per_day", q, -big, big, need::required, nullptr, config::measure::difference), fault.magnitude);
-            } else if (fault.kind == fault_kind::spike || fault.kind == fault_kind::offset) {
-                set(f.quantity("magnitude", q, -big, big, need::required, nullptr, config::measure::difference), fault.magnitude);
-            } else if (fault.kind == fault_kind::dropout) {
-                set(f.boolean("hold", need::optional), fault.hold);
-            }
-            s.faults.push_back(fault);
-        });
+        r.each_table("fault", [&](table_reader& f, std::size_t) { read_fault(f, q, s); });
         s_.sensors.push_back(std::move(s));
+    }
+
+    void read_fault(table_reader& f, quantity q, sensor_spec& s) {
+        sensor_fault fault;
+        set(f.choice<fault_kind>("kind", {{"stuck", fault_kind::stuck}, {"drift", fault_kind::drift}, {"spike", fault_kind::spike},
+                                          {"dropout", fault_kind::dropout}, {"offset", fault_kind::offset}},
+                                 need::required),
+            fault.kind);
+        read_window(f, fault.start_s, fault.end_s);
+        if (fault.kind == fault_kind::drift) {
+            set(f.quantity("per_day", q, -big, big, need::required, nullptr, config::measure::difference), fault.magnitude);
+        } else if (fault.kind == fault_kind::spike || fault.kind == fault_kind::offset) {
+            set(f.quantity("magnitude", q, -big, big, need::required, nullptr, config::measure::difference), fault.magnitude);
+        } else if (fault.kind == fault_kind::dropout) {
+            set(f.boolean("hold", need::optional), fault.hold);
+        }
+        s.faults.push_back(fault);
     }
 
     void read_window(table_reader& r, double& start_s, double& end_s) {
@@ -571,6 +673,9 @@ private:
     void read_event(table_reader& r) {
         plant_event e;
         set(r.choice<event_kind>("kind", {{"link_loss", event_kind::link_loss}, {"slow_replies", event_kind::slow_replies},
+                                          {"dropped_connections", event_kind::dropped_connections},
+                                          {"exception_replies", event_kind::exception_replies},
+                                          {"wrong_transaction_id", event_kind::wrong_transaction_id},
                                           {"blower_trip", event_kind::blower_trip}, {"power_failure", event_kind::power_failure}},
                                  need::required),
             e.kind);
@@ -581,7 +686,45 @@ private:
         if (e.kind == event_kind::slow_replies) {
             set(r.quantity("delay", quantity::duration, 0.001, 600.0, need::required), e.delay_s);
         }
+        if (e.kind == event_kind::exception_replies) {
+            if (const auto code = r.integer("exception", 1, 11, need::required)) {
+                static constexpr std::array<std::int64_t, 9> codes{1, 2, 3, 4, 5, 6, 8, 10, 11};
+                if (std::find(codes.begin(), codes.end(), *code) == codes.end()) {
+                    d_.error(r.pos_of("exception"), r.path_of("exception"), "the exception code " + std::to_string(*code),
+                             "a Modbus exception code: 1, 2, 3, 4, 5, 6, 8, 10 or 11");
+                } else {
+                    e.exception = static_cast<std::uint8_t>(*code);
+                }
+            }
+        }
+        if (is_protocol_fault(e.kind) && e.kind != event_kind::link_loss) {
+            if (const auto fc = r.integer("function", 1, 127, need::optional)) {
+                e.function = static_cast<std::uint8_t>(*fc);
+            }
+            if (const auto first = r.integer("first_address", 0, 65535, need::optional)) {
+                e.first_address = static_cast<std::uint16_t>(*first);
+            }
+            if (const auto last = r.integer("last_address", 0, 65535, need::optional)) {
+                e.last_address = static_cast<std::uint16_t>(*last);
+                if (e.last_address < e.first_address) {
+                    d_.error(r.pos_of("last_address"), r.path_of("last_address"),
+                             "a last address below the first (" + std::to_string(e.first_address) + ")",
+                             "last_address >= first_address");
+                }
+            }
+        }
         s_.events.push_back(e);
+    }
+
+    void read_server(table_reader& r) {
+        server_spec& sv = s_.server;
+        if (const auto port = r.integer("port", 1, 65535, need::optional)) {
+            sv.port = static_cast<std::uint16_t>(*port);
+        }
+        if (const auto n = r.integer("max_connections", 1, 64, need::optional)) {
+            sv.max_connections = static_cast<std::size_t>(*n);
+        }
+        set(r.quantity("idle_timeout", quantity::duration, 0.0, 86400.0, need::optional), sv.idle_timeout_s);
     }
 
     void read_registers(table_reader& r) {
@@ -764,6 +907,7 @@ private:
     scenario& s_;
     name_index names_;
     std::vector<config::source_pos> share_pos_;
+    std::vector<config::diagnostic> base_errors_;
 };
 
 } // namespace
@@ -777,14 +921,29 @@ const sensor_spec* scenario::find_sensor(std::string_view n) const {
     return nullptr;
 }
 
-scenario_result load_scenario_text(std::string_view text, std::string_view source_name) {
+namespace {
+
+scenario_result load_text_as(std::string_view text, std::string_view source_name, load_as as) {
     scenario_result result;
     diagnostics diags{std::string{source_name}};
     scenario s;
     s.source_file = std::string{source_name};
     loader l{diags, s};
-    config::read_document(text, diags, [&](table_reader& root) { l.read(root); });
-    result.errors = diags.take_sorted();
+    config::read_document(text, diags, [&](table_reader& root) {
+        if (!root.has("based_on")) {
+            l.read(root);
+        } else if (as == load_as::any) {
+            l.read_overlay(root, source_name);
+        } else {
+            diags.error(root.pos_of("based_on"), "based_on", "based_on in a scenario used as a base",
+                        "a base scenario that is not based on another");
+            root.skip({"scenario_version", "based_on", "base_faults", "scenario", "server", "fault", "event"});
+        }
+    });
+    result.errors = l.take_base_errors();
+    for (config::diagnostic& d : diags.take_sorted()) {
+        result.errors.push_back(std::move(d));
+    }
     if (result.errors.empty()) {
         s.influent.seed = s.seed;
         result.value = std::move(s);
@@ -792,7 +951,7 @@ scenario_result load_scenario_text(std::string_view text, std::string_view sourc
     return result;
 }
 
-scenario_result load_scenario_file(const std::string& path) {
+scenario_result load_file_as(const std::string& path, load_as as) {
     std::ifstream in(path, std::ios::binary);
     if (!in) {
         scenario_result r;
@@ -802,8 +961,16 @@ scenario_result load_scenario_file(const std::string& path) {
     }
     std::ostringstream text;
     text << in.rdbuf();
-    return load_scenario_text(text.str(), path);
+    return load_text_as(text.str(), path, as);
 }
+
+} // namespace
+
+scenario_result load_scenario_text(std::string_view text, std::string_view source_name) {
+    return load_text_as(text, source_name, load_as::any);
+}
+
+scenario_result load_scenario_file(const std::string& path) { return load_file_as(path, load_as::any); }
 
 influent_spec mean_influent(const influent_spec& s) {
     influent_spec m = flat_profiles(s);

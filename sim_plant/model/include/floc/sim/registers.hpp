@@ -125,18 +125,32 @@ void encode_into(const register_map& map, const register_inputs& in, register_im
 [[nodiscard]] double decode_value(const register_entry& e, std::span<const std::uint16_t> words);
 
 enum class write_status : std::uint8_t {
-    ok,
+    ok,               // written; values outside an entry's limits were clamped to them
     illegal_address,  // no writable entry there, or a write that covers only part of a value
-    illegal_value,    // a value outside the entry's limits, or not a number
+    not_a_number,     // a NaN or infinite value: nothing can be made of it, nothing is written
 };
 
 struct write_result {
     write_status status = write_status::ok;
-    std::string reason;  // for the server's log
+    std::string reason;                // for the server's log
+    std::vector<std::string> clamped;  // labels of the entries whose value was clamped
 };
 
-// Applies a write of holding registers [first, first + words.size()) to `u`: all or nothing.
+// Applies a write of holding registers [first, first + words.size()) to `u`: all or nothing. A
+// value outside the entry's `limits` is clamped to them, as a PLC's limit block does; read the
+// register back to see the value in force.
 [[nodiscard]] write_result apply_write(const register_map& map, std::uint16_t first,
                                        std::span<const std::uint16_t> words, plant_controls& u);
+
+// Stores a set point (canonical units) in `u`: per zone for do_setpoint and kla, per train else.
+void store_setpoint(plant_controls& u, setpoint_kind kind, std::size_t train, std::size_t zone, double value);
+
+// The writable entry of a set point (train, and zone for per-zone set points), or null.
+[[nodiscard]] const register_entry* find_setpoint(const register_map& map, setpoint_kind kind, std::size_t train,
+                                                  std::size_t zone = 0);
+
+// True when a read of `count` registers or bits of table `t` from `first` touches the plant time.
+[[nodiscard]] bool touches_plant_time(const register_map& map, register_table t, std::uint16_t first,
+                                      std::uint16_t count);
 
 } // namespace floc::sim

@@ -1,7 +1,8 @@
 // Instruments: each measurement passes through a sensor model (first-order lag, noise, sample
 // interval, range clamp) and a fault schedule (stuck value, drift, spike, dropout, offset after a
-// calibration). The schedule also holds events that are not a sensor's: PLC link loss and slow
-// replies (acted on by the Modbus server), blower trips and power failures (acted on by the plant).
+// calibration). The schedule also holds events that are not a sensor's: PLC link loss, slow
+// replies, dropped connections, exception replies and wrong transaction ids (acted on by the
+// Modbus server), blower trips and power failures (acted on by the plant).
 #pragma once
 
 #include "floc/sim/plant.hpp"
@@ -12,6 +13,8 @@
 #include <limits>
 #include <optional>
 #include <string>
+#include <string_view>
+#include <utility>
 #include <vector>
 
 namespace floc::sim {
@@ -102,12 +105,16 @@ private:
     std::uint64_t samples_ = 0;
 };
 
-// Events of the PLC and the plant, scheduled in plant time.
+// Events of the PLC and the plant, scheduled in plant time. The protocol faults (the first five)
+// are acted on by the simulator's Modbus/TCP server; blower trips and power failures by the plant.
 enum class event_kind : std::uint8_t {
-    link_loss,      // the PLC does not answer (the server closes or refuses connections)
-    slow_replies,   // the PLC answers after `delay_s`
-    blower_trip,    // one train's blowers stop
-    power_failure,  // every blower and pump stops; the power-failure alarm is on
+    link_loss,             // the PLC does not answer: connections closed, new ones refused
+    slow_replies,          // replies go out `delay_s` late
+    dropped_connections,   // the connection is closed instead of answering
+    exception_replies,     // requests are answered with `exception` instead of being done
+    wrong_transaction_id,  // replies carry the request's transaction id + 1
+    blower_trip,           // one train's blowers stop
+    power_failure,         // every blower and pump stops; the power-failure alarm is on
 };
 
 struct plant_event {
@@ -116,7 +123,15 @@ struct plant_event {
     double end_s = std::numeric_limits<double>::infinity();
     std::size_t train = no_index;  // blower_trip: the train
     double delay_s = 0.0;          // slow_replies
+    // Protocol faults other than link_loss: which requests they act on, and how.
+    std::optional<std::uint8_t> function;  // only this function code (any when empty)
+    std::uint16_t first_address = 0;       // only requests touching first..last
+    std::uint16_t last_address = 0xFFFF;
+    std::uint8_t exception = 4;            // exception_replies: the exception code sent
 };
+
+// True for the events the Modbus/TCP server acts on (link loss and the other protocol faults).
+[[nodiscard]] bool is_protocol_fault(event_kind kind);
 
 // The state of the PLC link at `t_s`, for the server.
 struct link_state {
@@ -124,6 +139,17 @@ struct link_state {
     double reply_delay_s = 0.0;
 };
 [[nodiscard]] link_state link_at(const std::vector<plant_event>& events, double t_s);
+// Indices of the protocol faults other than link loss that are active at `t_s`, in schedule
+// order (the server's fault rules).
+[[nodiscard]] std::vector<std::size_t> protocol_faults_at(const std::vector<plant_event>& events, double t_s);
+// The first start or end of a protocol fault (link loss included) after `t_s`; infinity if none.
+[[nodiscard]] double next_protocol_change_after(const std::vector<plant_event>& events, double t_s);
+// Indices of the sensor faults active at `t_s`: (sensor, fault) pairs, in scenario order.
+[[nodiscard]] std::vector<std::pair<std::size_t, std::size_t>> sensor_faults_at(const std::vector<sensor_spec>& sensors,
+                                                                                double t_s);
+// A short name of an event kind or a fault kind ("link_loss", "stuck").
+[[nodiscard]] std::string_view to_string(event_kind kind);
+[[nodiscard]] std::string_view to_string(fault_kind kind);
 [[nodiscard]] bool power_failed_at(const std::vector<plant_event>& events, double t_s);
 // Controls as the events leave them at `t_s` (blowers and pumps available or not).
 void apply_events(const std::vector<plant_event>& events, double t_s, plant_controls& u);

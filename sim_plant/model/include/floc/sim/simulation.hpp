@@ -101,6 +101,10 @@ public:
     [[nodiscard]] const run_statistics& statistics() const;
     [[nodiscard]] const std::string& error() const { return error_; }
 
+    // Takes the sensor samples due at the current time (at the start: the first readings), as
+    // the next advance would; a served plant has readings before its first step.
+    void sample_due();
+
     // New PLC controls from now on (a set point written on a holding register); availability of
     // blowers and pumps still follows the event schedule.
     void set_controls(const plant_controls& u);
@@ -108,6 +112,7 @@ public:
 private:
     struct engine;
     bool integrate_to(double t_s);
+    void sample(double t_s, const double* x);  // the sensors due at t_s, from state x
     void restart();
     [[nodiscard]] double next_event_after(double t_s) const;
 

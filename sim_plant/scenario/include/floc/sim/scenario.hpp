@@ -27,8 +27,18 @@ enum class initial_mode : std::uint8_t {
     guess,   // every zone and clarifier layer at the given concentrations
 };
 
+// The simulated PLC's Modbus/TCP server.
+inline constexpr std::uint16_t default_server_port = 15020;
+
+struct server_spec {
+    std::uint16_t port = default_server_port;  // flocsim --port overrides it
+    std::size_t max_connections = 8;
+    double idle_timeout_s = 300.0;             // 0: never
+};
+
 struct scenario {
     std::string source_file;
+    std::string based_on;  // the base scenario's path when this one is based on another
     std::string name;
     std::string description;
     std::uint64_t seed = 1;
@@ -41,6 +51,7 @@ struct scenario {
     solver_options solver;
     initial_mode initial = initial_mode::steady;
     asm1::vector initial_guess{};
+    server_spec server;
 
     [[nodiscard]] const sensor_spec* find_sensor(std::string_view name) const;
 };
