@@ -37,7 +37,7 @@ void runtime::start_pollers() {
         // The snapshot handler runs on the io_context; it reaches this runtime only through the
         // service, which outlives every posted handler.
         pollers_.push_back(std::make_unique<plc::poller>(
-            i, cfg_.plcs[i], plans_[i], executor_, [this](plc::poll_snapshot s) { on_snapshot(s); }));
+            i, cfg_.plcs[i], plans_[i], executor_, [this](const plc::poll_snapshot& s) { on_snapshot(s); }));
         pollers_.back()->start();
     }
 }
@@ -198,10 +198,10 @@ void runtime::journal_event(std::string_view event, const std::string& detail) {
     store::json_object line;
     line.add("event", event);
     line.add("detail", detail);
-    journal_line(std::move(line));
+    journal_line(line);
 }
 
-void runtime::journal_line(store::json_object body) {
+void runtime::journal_line(const store::json_object& body) {
     store::json_object line;
     const auto wall = std::chrono::system_clock::now();
     line.add("time_unix_s", std::chrono::duration<double>(wall.time_since_epoch()).count());
@@ -324,7 +324,7 @@ modbus::refusal runtime::write_registers(std::uint16_t address, std::span<const 
     if (status == registers::lab_status::accepted) {
         r.add("sample_time_s", labs_.current(w->entry)->sample_time_s);
     }
-    journal_line(std::move(r));
+    journal_line(r);
     if (!allowed) {
         log_->warn("lab entry {} refused: {} is not in hmi_server.lab_writers", e.name,
                    config::format_network({client.address_v4, 32}));
