@@ -170,9 +170,10 @@ TEST(Integration, OnlyLabEntriesAreWritableAndTheyPersist) {
     EXPECT_EQ(hmi.write_registers(lab + registers::lab_offset::value, test::words_of(99999.0F)), 0);
     EXPECT_EQ(hmi.holding(lab + registers::lab_offset::status, 1).at(0), 2);
     EXPECT_FLOAT_EQ(test::f32(hmi.holding(lab, 2), 0), 3150.0F);
-    // The int16 form: a_sv30 (20..1000 mL/L)
+    // The int16 form: a_sv30 (20..1000 mL/L, so the int16 holds tenths: 2800 = 280 mL/L)
     const std::uint16_t sv30 = b.map.lab_base(4);
-    EXPECT_EQ(hmi.write_register(sv30 + registers::lab_offset::value_int16, 280), 0);
+    ASSERT_EQ(b.map.find(sv30 + registers::lab_offset::value_int16)->int16_scale, 10.0);
+    EXPECT_EQ(hmi.write_register(sv30 + registers::lab_offset::value_int16, 2800), 0);
     EXPECT_EQ(hmi.holding(sv30 + registers::lab_offset::status, 1).at(0), 1);
 
     // A restart keeps them.
@@ -289,13 +290,13 @@ TEST(Integration, PlcDownAtStartIsPickedUpWhenItComesUp) {
     simulated_plant plant{dir, "marrowby.toml", {"--speed", "600"}, plc_port};
     EXPECT_TRUE(test::wait_for([&] { return hmi.holding(map.input_base(3) + registers::input_offset::quality, 1).at(0) == 0; }, 15s))
         << d.log();
-    EXPECT_EQ(hmi.holding(registers::status_offset::plc_link, 1).at(0), 1);
+    EXPECT_TRUE(test::wait_for([&] { return hmi.holding(registers::status_offset::plc_link, 1).at(0) == 1; }, 3s));
 }
 
-// The never-writes proof: over many accelerated plant hours the simulated PLC records every
+// The never-writes proof: over a day of accelerated plant time the simulated PLC records every
 // request flocd sent; none has a write function code.
 TEST(Integration, FlocdNeverWritesToThePlc) {
-    bench b{"neverwrites", {"--speed", "3600"}};
+    bench b{"neverwrites", {"--speed", "7200"}};
     ASSERT_TRUE(b.daemon->wait_ready()) << b.daemon->log();
     ASSERT_TRUE(b.advice_published()) << b.daemon->log();
     modbus_client hmi{b.hmi_port};
@@ -304,7 +305,7 @@ TEST(Integration, FlocdNeverWritesToThePlc) {
         return w.size() == 2 ? (std::uint32_t{w[0]} << 16U | w[1]) : 0U;
     };
     const std::uint32_t start = plant_time();
-    ASSERT_TRUE(test::wait_for([&] { return plant_time() >= start + 6 * 3600; }, 60s))
+    ASSERT_TRUE(test::wait_for([&] { return plant_time() >= start + 24 * 3600; }, 60s))
         << "plant time " << plant_time() << " from " << start;
     EXPECT_EQ(b.daemon->stop(), 0);
     EXPECT_EQ(b.plant.stop(), 0);
@@ -315,7 +316,7 @@ TEST(Integration, FlocdNeverWritesToThePlc) {
     static const std::regex requests{R"("requests"\s*:\s*(\d+))"};
     std::smatch m;
     ASSERT_TRUE(std::regex_search(log, m, requests)) << log;
-    EXPECT_GT(std::stoul(m[1]), 100U) << log;
+    EXPECT_GE(std::stoul(m[1]), 30U) << log;  // three reads a poll, a poll a second, over 12 s
     for (auto it = std::sregex_iterator(log.begin(), log.end(), writes); it != std::sregex_iterator(); ++it) {
         EXPECT_EQ((*it)[1], "0") << log;
     }
