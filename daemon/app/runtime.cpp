@@ -67,6 +67,18 @@ void runtime::adopt(const runtime& old) {
 
 void runtime::on_snapshot(const plc::poll_snapshot& snap) {
     const double now = seconds();
+    const plc::link_status& was = links_.at(snap.plc);
+    const std::string& plc_name = cfg_.plcs.at(snap.plc).name;
+    if (snap.link.connected && (!was.connected || snap.link.connects != was.connects)) {
+        log_->info("PLC {} connected ({}:{})", plc_name, cfg_.plcs[snap.plc].host, cfg_.plcs[snap.plc].port);
+    } else if (!snap.link.connected && (was.connected || was.reads_ok + was.reads_failed == 0)) {
+        log_->warn("PLC {} not reachable: {}", plc_name, snap.link.last_error);
+    }
+    for (const plc::read_result& r : snap.results) {
+        if (!r.ok && snap.link.connected && (was.reads_failed == snap.link.reads_failed || was.last_error != r.error)) {
+            log_->warn("PLC {}: read failed: {}", plc_name, r.error);
+        }
+    }
     links_.at(snap.plc) = snap.link;
     polled_.at(snap.plc) = true;
     const auto& plan = plans_.at(snap.plc);
