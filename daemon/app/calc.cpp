@@ -787,12 +787,13 @@ void print_overview(std::ostream& out, const std::vector<command>& list) {
 void print_keys(std::ostream& out, const command& c) {
     out << "flocd calc " << c.name << " - " << c.summary << "\n\nKeys:\n";
     for (const key_spec& k : c.keys) {
+        // Pad the columns, but never cut a long name or default short.
         std::string n{k.name};
-        n.resize(22, ' ');
+        n.resize(std::max<std::size_t>(n.size() + 1, 22), ' ');
         std::string what =
             k.required ? "required"
                        : (k.fallback.empty() ? "optional" : "default " + std::string{k.fallback});
-        what.resize(20, ' ');
+        what.resize(std::max<std::size_t>(what.size() + 1, 20), ' ');
         out << "  " << n << what << k.help << " [" << unit_hint(k) << "]\n";
     }
     out << "\n" << caution;

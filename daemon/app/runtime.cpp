@@ -37,7 +37,7 @@ void runtime::start_pollers() {
         // The snapshot handler runs on the io_context; it reaches this runtime only through the
         // service, which outlives every posted handler.
         pollers_.push_back(std::make_unique<plc::poller>(
-            i, cfg_.plcs[i], plans_[i], executor_, [this](plc::poll_snapshot s) { on_snapshot(s); }));
+            i, cfg_.plcs[i], plans_[i], executor_, [this](const plc::poll_snapshot& s) { on_snapshot(s); }));
         pollers_.back()->start();
     }
 }
@@ -67,6 +67,18 @@ void runtime::adopt(const runtime& old) {
 
 void runtime::on_snapshot(const plc::poll_snapshot& snap) {
     const double now = seconds();
+    const plc::link_status& was = links_.at(snap.plc);
+    const std::string& plc_name = cfg_.plcs.at(snap.plc).name;
+    if (snap.link.connected && (!was.connected || snap.link.connects != was.connects)) {
+        log_->info("PLC {} connected ({}:{})", plc_name, cfg_.plcs[snap.plc].host, cfg_.plcs[snap.plc].port);
+    } else if (!snap.link.connected && (was.connected || was.reads_ok + was.reads_failed == 0)) {
+        log_->warn("PLC {} not reachable: {}", plc_name, snap.link.last_error);
+    }
+    for (const plc::read_result& r : snap.results) {
+        if (!r.ok && snap.link.connected && (was.reads_failed == snap.link.reads_failed || was.last_error != r.error)) {
+            log_->warn("PLC {}: read failed: {}", plc_name, r.error);
+        }
+    }
     links_.at(snap.plc) = snap.link;
     polled_.at(snap.plc) = true;
     const auto& plan = plans_.at(snap.plc);
@@ -198,10 +210,10 @@ void runtime::journal_event(std::string_view event, const std::string& detail) {
     store::json_object line;
     line.add("event", event);
     line.add("detail", detail);
-    journal_line(std::move(line));
+    journal_line(line);
 }
 
-void runtime::journal_line(store::json_object body) {
+void runtime::journal_line(const store::json_object& body) {
     store::json_object line;
     const auto wall = std::chrono::system_clock::now();
     line.add("time_unix_s", std::chrono::duration<double>(wall.time_since_epoch()).count());
@@ -324,7 +336,7 @@ modbus::refusal runtime::write_registers(std::uint16_t address, std::span<const 
     if (status == registers::lab_status::accepted) {
         r.add("sample_time_s", labs_.current(w->entry)->sample_time_s);
     }
-    journal_line(std::move(r));
+    journal_line(r);
     if (!allowed) {
         log_->warn("lab entry {} refused: {} is not in hmi_server.lab_writers", e.name,
                    config::format_network({client.address_v4, 32}));

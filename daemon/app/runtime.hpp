@@ -60,7 +60,7 @@ public:
     void load_state();
     bool save_state();
     void journal_event(std::string_view event, const std::string& detail);
-    void journal_line(store::json_object line);
+    void journal_line(const store::json_object& line);
 
     [[nodiscard]] const config::plant_config& cfg() const { return cfg_; }
     [[nodiscard]] const registers::register_map& map() const { return map_; }
