@@ -58,8 +58,9 @@ Serving options:
   --speed N             N plant seconds per wall second (default 1, real time; e.g. 60, 600)
   --fast                plant time as fast as the model runs, still serving between steps
   --lockstep STEP       plant time moves by STEP (e.g. 5s, 1min) each time a client has read
-                        the plant-time registers, after that read is answered; while a fault
-                        keeps every client from reading them, by STEP each wall second
+                        the plant-time registers, after that read is answered; while a
+                        protocol fault or link loss is on and no client reads them, by STEP
+                        each wall second
   --for TIME            stop after TIME of plant time (exit 0)
   --status              a live status line on standard error (plant day and time, influent
                         flow, effluent NH4/NO3/TSS, blanket, active faults): rewritten in place

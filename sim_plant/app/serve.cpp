@@ -278,6 +278,7 @@ private:
         if (o_.clock != clock_mode::lockstep || stopping_) {
             return;
         }
+        time_read_since_idle_ = true;
         ++pending_steps_;
         asio::post(io_, [this] { catch_up(); });
     }
@@ -289,31 +290,23 @@ private:
         }
     }
 
-    // --lockstep: while a fault keeps every client from reading the plant time (a link loss,
-    // dropped connections, exception replies), the plant takes one step per wall second, so
-    // that the fault ends.
+    // --lockstep: while a protocol fault or a link loss is on and no client has read the plant
+    // time for a wall second, the plant takes one step per wall second, so that the fault ends.
+    // A fault need not touch the plant-time registers to keep a client from them: a client that
+    // gives up on a late reply to another request reconnects and starts its poll afresh.
     void schedule_idle() {
         idle_timer_.expires_after(idle_step_every);
         idle_timer_.async_wait([this](const boost::system::error_code& ec) {
             if (ec || stopping_) {
                 return;
             }
-            if (time_reads_blocked()) {
+            if ((link_down_ || !active_faults_.empty()) && !time_read_since_idle_) {
                 advance(host_.time_s() + o_.lockstep_s);
             }
+            time_read_since_idle_ = false;
             if (!stopping_) {
                 schedule_idle();
             }
-        });
-    }
-
-    [[nodiscard]] bool time_reads_blocked() const {
-        if (link_down_) {
-            return true;
-        }
-        const auto& events = host_.sim().events();
-        return std::any_of(active_faults_.begin(), active_faults_.end(), [&](std::size_t i) {
-            return sim::blocks_plant_time_reads(events[i], s_.registers);
         });
     }
 
@@ -554,6 +547,7 @@ private:
     steady::time_point wall_start_;
     std::uint64_t pending_steps_ = 0;
     bool link_down_ = false;
+    bool time_read_since_idle_ = false;  // --lockstep: a plant-time read within the last idle tick
     std::vector<std::size_t> active_faults_;
     std::ofstream trend_;
     double next_row_s_ = 0.0;

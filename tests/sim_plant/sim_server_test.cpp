@@ -160,21 +160,6 @@ TEST(FaultRules, TheFaultBenchScheduleBecomesTheLibrarysRules) {
     EXPECT_TRUE(fault_rules(s.events, {0}).empty());
 }
 
-TEST(FaultRules, WhichFaultsKeepClientsFromThePlantTime) {
-    const scenario s = test::load("marrowby-faults"); // plant time at input registers 0-1
-    EXPECT_TRUE(blocks_plant_time_reads(s.events[0], s.registers));  // link loss
-    EXPECT_FALSE(blocks_plant_time_reads(s.events[1], s.registers)); // slow replies still answer
-    EXPECT_TRUE(blocks_plant_time_reads(s.events[2], s.registers));  // exception replies to 04
-    EXPECT_FALSE(blocks_plant_time_reads(s.events[3], s.registers)); // a wrong id is still a read
-    EXPECT_TRUE(blocks_plant_time_reads(s.events[4], s.registers));  // dropped connections
-    plant_event holding_only = s.events[2];
-    holding_only.function = 3;
-    EXPECT_FALSE(blocks_plant_time_reads(holding_only, s.registers));
-    plant_event above = s.events[4];
-    above.first_address = 2;
-    EXPECT_FALSE(blocks_plant_time_reads(above, s.registers));
-}
-
 // --- the operator stand-in -------------------------------------------------------------------
 
 // Marrowby's advisory registers with advice in a few slots: 0 aeration a_oxic1, 2 aeration

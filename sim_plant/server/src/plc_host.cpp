@@ -20,10 +20,6 @@ register_table table_of(modbus::table t) {
     return register_table::input_registers;
 }
 
-std::uint8_t read_function(register_table t) {
-    return static_cast<std::uint8_t>(t);
-}
-
 } // namespace
 
 plc_host::plc_host(const scenario& s, std::vector<double> x0)
@@ -164,21 +160,6 @@ std::vector<modbus::fault_rule> fault_rules(const std::vector<plant_event>& even
         rules.push_back(r);
     }
     return rules;
-}
-
-bool blocks_plant_time_reads(const plant_event& e, const register_map& map) {
-    if (e.kind == event_kind::link_loss) {
-        return true;
-    }
-    if (e.kind != event_kind::dropped_connections && e.kind != event_kind::exception_replies) {
-        return false;
-    }
-    return std::any_of(map.entries.begin(), map.entries.end(), [&](const register_entry& r) {
-        return r.source == register_source::plant_time &&
-               (!e.function || *e.function == read_function(r.table)) &&
-               r.address <= e.last_address &&
-               unsigned{r.address} + r.width() - 1U >= e.first_address;
-    });
 }
 
 } // namespace floc::sim

@@ -94,9 +94,4 @@ private:
 [[nodiscard]] std::vector<modbus::fault_rule> fault_rules(const std::vector<plant_event>& events,
                                                           const std::vector<std::size_t>& active);
 
-// True when `e`, while active, keeps every client from reading the plant-time registers of `map`
-// (a link loss; dropped connections or exception replies on every such read). Lockstep runs then
-// advance on their own, so that the fault ends.
-[[nodiscard]] bool blocks_plant_time_reads(const plant_event& e, const register_map& map);
-
 } // namespace floc::sim
