@@ -13,14 +13,17 @@ namespace floc::app {
 
 // The unit a value of quantity `q` is shown in: the display unit of the config, except that
 // plain numbers (ratios, states) stay plain. The HMI's lab entries use the same unit.
-[[nodiscard]] const units::unit& shown_unit(const config::display_config& display, units::quantity q);
+[[nodiscard]] const units::unit& shown_unit(const config::display_config& display,
+                                            units::quantity q);
 
 // The `advice` record of one outcome (value in SI and in display units, bounds, quality,
 // reasons, explanation, inputs, figures).
-[[nodiscard]] store::json_object advice_record(const advisor_outcome& o, const config::plant_config& cfg);
+[[nodiscard]] store::json_object advice_record(const advisor_outcome& o,
+                                               const config::plant_config& cfg);
 
 // One journal line: wall-clock time, plant time (null when unknown), site, and the record.
 [[nodiscard]] store::json_object journal_line(const store::json_object& record, double wall_unix_s,
-                                              std::optional<double> plant_time_s, std::string_view site);
+                                              std::optional<double> plant_time_s,
+                                              std::string_view site);
 
 } // namespace floc::app
