@@ -580,7 +580,7 @@ Usage: flocd replay [--config FILE] --input HISTORY.csv --output ADVICE.csv [opt
 Input: a header line, then one row per time. The first column is the time: ISO 8601 without
 a zone (2026-03-04 05:06:07, taken as the plant's local time), with a zone
 (2026-03-04T05:06:07Z or +01:00, converted to the local time of the TZ environment variable,
-as flocd does on line: run TZ=Europe/London flocd replay ... for a plant in that zone) or plain
+as flocd does on line: elsewhere, run TZ=ZONE flocd replay ... with the plant's zone) or plain
 seconds on the plant clock. Rows must be in increasing time. Every other column is named by a
 tag or lab entry of the config, optionally with a unit: a_influent_flow or
 "a_influent_flow [MGD]". Tag values are in the tag's unit (as the PLC delivers them), lab
