@@ -108,11 +108,11 @@ bool replayer::start() {
     if (!csv_.next(cells_)) {
         sum_.fatal = true;
         sum_.read_failed = csv_.read_failed();
-        sum_.messages.push_back(o_.input_name + ": " +
+        sum_.messages.push_back(o_.input_name +
                                 (csv_.error().empty()
-                                     ? "found no header line; expected a first line naming the "
+                                     ? ": found no header line; expected a first line naming the "
                                        "time column and then tags or lab entries"
-                                     : csv_.error()));
+                                     : ":" + csv_.error()));
         return false;
     }
     std::vector<bool> tag_seen(shown_.tags.size(), false);
