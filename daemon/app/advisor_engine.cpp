@@ -2,6 +2,7 @@
 
 #include "advisor_states.hpp"
 
+#include <algorithm>
 #include <cmath>
 
 namespace floc::app {
@@ -181,6 +182,17 @@ std::vector<std::pair<std::size_t, advisor_outcome>> advisor_engine::run_due(con
         out.emplace_back(i, run_slot(i, in, waste && recompute_waste));
     }
     return out;
+}
+
+std::optional<double> advisor_engine::next_due() const {
+    std::optional<double> earliest;
+    for (const slot_data& s : slots_) {
+        if (!s.next_due_s) {
+            return std::nullopt;
+        }
+        earliest = earliest ? std::min(*earliest, *s.next_due_s) : *s.next_due_s;
+    }
+    return earliest;
 }
 
 void advisor_engine::age(double steady_now_s, std::vector<registers::published_advice>& out) const {

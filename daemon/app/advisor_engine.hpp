@@ -52,6 +52,10 @@ public:
     // Seconds since each slot's advice was computed (steady clock), for the registers.
     void age(double steady_now_s, std::vector<registers::published_advice>& out) const;
 
+    // The earliest plant time at which an advisor is due again; nothing while any advisor has
+    // not run yet (it is due at once) or there are none.
+    [[nodiscard]] std::optional<double> next_due() const;
+
     [[nodiscard]] std::size_t size() const { return slots_.size(); }
     [[nodiscard]] const std::optional<advisor_outcome>& last(std::size_t slot) const { return slots_.at(slot).last; }
     [[nodiscard]] const std::string& key(std::size_t slot) const { return slots_.at(slot).key; }

@@ -3,6 +3,7 @@
 #include "config_summary.hpp"
 #include "exit_codes.hpp"
 #include "logging.hpp"
+#include "replay.hpp"
 #include "service.hpp"
 
 #include "floc/config/load.hpp"
@@ -43,6 +44,12 @@ Usage:
                                        explanation and figures (do, recycle, ras, state-point,
                                        was, min-srt); 'flocd calc --help' lists them, 'flocd calc
                                        ADVISOR --help' their keys
+  flocd replay [--config FILE] --input HISTORY.csv --output ADVICE.csv [--units si|us]
+               [--from TIME] [--to TIME] [--changes-only] [--journal FILE]
+               [--ignore-unknown] [--max-gap DURATION]
+                                       run the advisors over a historian export (timestamped
+                                       tag values) at full speed and write every advice run;
+                                       'flocd replay --help' describes the files
   flocd --help                         this text
   flocd --version                      version
 
@@ -57,9 +64,10 @@ CAUTION: floc is advisory only. A licensed operator decides every set point; loc
 permits, codes and plant procedures prevail over any advice. Never point the simulator
 (flocsim) or the test suite at a real plant network.
 
-Exit codes: 0 ok / config valid, 64 bad command line, 65 bad calc value, 66 file unreadable,
-69 a PLC did not answer (--once), 70 internal error, 71 a socket could not be opened,
-73 a state or journal directory could not be created, 78 config invalid.
+Exit codes: 0 ok / config valid, 64 bad command line, 65 bad calc value or replay data,
+66 file unreadable, 69 a PLC did not answer (--once), 70 internal error, 71 a socket could
+not be opened, 73 a state or journal directory (or a replay output) could not be created,
+74 a write failed, 78 config invalid.
 The config reference is config/README.md in the source tree.
 )";
 
@@ -149,6 +157,10 @@ int run(std::span<char*> args) {
     if (args.size() >= 2 && std::string_view{args[1]} == "calc") {
         const std::vector<std::string_view> rest(args.begin() + 2, args.end());
         return app::run_calc(rest, std::cout, std::cerr);
+    }
+    if (args.size() >= 2 && std::string_view{args[1]} == "replay") {
+        const std::vector<std::string_view> rest(args.begin() + 2, args.end());
+        return app::replay::run_replay(rest, std::cout, std::cerr, load_or_report);
     }
     options o;
     for (std::size_t i = 1; i < args.size(); ++i) {

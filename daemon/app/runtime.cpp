@@ -1,5 +1,7 @@
 #include "runtime.hpp"
 
+#include "journal_record.hpp"
+
 #include "floc/plc/decode.hpp"
 #include "floc/store/files.hpp"
 
@@ -214,16 +216,9 @@ void runtime::journal_event(std::string_view event, const std::string& detail) {
 }
 
 void runtime::journal_line(const store::json_object& body) {
-    store::json_object line;
     const auto wall = std::chrono::system_clock::now();
-    line.add("time_unix_s", std::chrono::duration<double>(wall.time_since_epoch()).count());
-    if (clock_.now()) {
-        line.add("plant_time_s", *clock_.now());
-    } else {
-        line.add_null("plant_time_s");
-    }
-    line.add("site", cfg_.site.name);
-    line.add("record", body);
+    const store::json_object line = app::journal_line(
+        body, std::chrono::duration<double>(wall.time_since_epoch()).count(), clock_.now(), cfg_.site.name);
     if (const std::error_code ec = journal_->append(line)) {
         if (journal_ok_) {
             log_->error("cannot write the advice journal {}: {}", journal_->path().string(), ec.message());
@@ -233,52 +228,6 @@ void runtime::journal_line(const store::json_object& body) {
     }
     journal_ok_ = true;
 }
-
-namespace {
-
-std::string_view quality_name(advisors::signal_quality q) { return advisors::to_string(q); }
-
-store::json_object advice_record(const advisor_outcome& o, const config::plant_config& cfg) {
-    const advisors::advice& a = o.advice;
-    store::json_object r;
-    r.add("event", "advice");
-    r.add("advisor", o.key);
-    r.add("value", a.value);
-    const units::unit& canon = units::canonical_unit(a.kind);
-    r.add("unit", canon.symbol);
-    const units::unit& shown = a.kind == units::quantity::dimensionless ? canon : cfg.display.unit_for(a.kind);
-    r.add("display_value", units::from_canonical(a.value, shown));
-    r.add("display_unit", shown.symbol);
-    r.add("min", a.min);
-    r.add("max", a.max);
-    r.add("quality", advisors::to_string(a.quality));
-    std::vector<store::json_object> reasons;
-    for (const advisors::reason code : a.reasons.codes()) {
-        store::json_object x;
-        x.add("code", static_cast<int>(code));
-        x.add("name", advisors::describe(code).name);
-        reasons.push_back(std::move(x));
-    }
-    r.add("reasons", reasons);
-    r.add("explanation", a.explanation);
-    store::json_object inputs;
-    for (const auto& [name, reading] : o.inputs) {
-        store::json_object x;
-        x.add("value", reading.value);
-        x.add("quality", quality_name(reading.quality));
-        x.add("sampled_at_s", reading.sampled_at_s);
-        inputs.add(name, x);
-    }
-    r.add("inputs", inputs);
-    store::json_object figures;
-    for (const advisors::figure& f : a.figures) {
-        figures.add(f.name, f.value);
-    }
-    r.add("figures", figures);
-    return r;
-}
-
-} // namespace
 
 void runtime::run_advisors(bool force) {
     const std::optional<double> plant_now = clock_.now();

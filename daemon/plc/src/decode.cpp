@@ -66,7 +66,10 @@ double decode_registers(const config::tag& tag, std::span<const std::uint16_t> w
         raw = static_cast<double>(words[0] & 1U);
         break;
     }
-    const double engineering = raw * tag.scale + tag.offset;
+    return to_canonical(tag, raw * tag.scale + tag.offset);
+}
+
+double to_canonical(const config::tag& tag, double engineering) {
     return units::to_canonical(engineering, *tag.unit);
 }
 

@@ -23,6 +23,10 @@ namespace floc::plc {
 // conditioning marks them bad.
 [[nodiscard]] double decode_registers(const config::tag& tag, std::span<const std::uint16_t> words);
 
+// An engineering value of the tag (after scale and offset, in the tag's unit) in the canonical
+// unit of its quantity: the last step of decode_registers, also used by flocd replay.
+[[nodiscard]] double to_canonical(const config::tag& tag, double engineering);
+
 // A bit tag (function 1 or 2): 0 or 1.
 [[nodiscard]] double decode_bit(bool bit);
 
