@@ -59,7 +59,8 @@ signal with(signal s, quality q, reason why) {
 
 // Records `value_at(t)` once a minute from `from_s` to `to_s` (inclusive).
 template <class F>
-void record_minutes(const config::lab_entry& e, probe_check_state& s, double from_s, double to_s, F value_at) {
+void record_minutes(const config::lab_entry& e, probe_check_state& s, double from_s, double to_s,
+                    F value_at) {
     for (double t = from_s; t <= to_s; t += minute) {
         conditioning::record(e, s, value_at(t), t);
     }
@@ -69,10 +70,10 @@ TEST(ProbeHistory, OnePointPerStepAndBounded) {
     const auto e = check_entry();
     EXPECT_DOUBLE_EQ(conditioning::probe_history_step_s(e), 60.0);
     probe_check_state s;
-    for (double t = 0.0; t < 10 * minute; t += 5.0) {  // a poll every 5 s
+    for (double t = 0.0; t < 10 * minute; t += 5.0) { // a poll every 5 s
         conditioning::record(e, s, good(4.0), t);
     }
-    EXPECT_EQ(s.history.size(), 10U);  // 0, 60, ..., 540 s
+    EXPECT_EQ(s.history.size(), 10U); // 0, 60, ..., 540 s
     // A day at one point a minute keeps only max_age and a step of it.
     record_minutes(e, s, 10 * minute, 24 * hour, [](double) { return good(4.0); });
     EXPECT_LE(s.history.size(), 12U * 60U + 2U);
@@ -96,7 +97,8 @@ TEST(ProbeHistory, AClockThatGoesBackClearsIt) {
 TEST(ProbeValue, InterpolatesBetweenTheTwoPointsAroundTheSampleTime) {
     const auto e = check_entry();
     probe_check_state s;
-    record_minutes(e, s, 0.0, 60 * minute, [](double t) { return good(4.0 + t / hour); });  // +1 mg/L/h
+    record_minutes(e, s, 0.0, 60 * minute,
+                   [](double t) { return good(4.0 + t / hour); }); // +1 mg/L/h
     const auto at_point = conditioning::probe_value_at(e, s, 30 * minute);
     ASSERT_TRUE(at_point.found);
     EXPECT_DOUBLE_EQ(at_point.value, 4.5);
@@ -114,7 +116,7 @@ TEST(ProbeValue, AGapInTheHistoryHasNoValue) {
     const auto e = check_entry();
     probe_check_state s;
     conditioning::record(e, s, good(4.0), 0.0);
-    conditioning::record(e, s, good(4.0), 10 * minute);  // flocd was not running in between
+    conditioning::record(e, s, good(4.0), 10 * minute); // flocd was not running in between
     EXPECT_FALSE(conditioning::probe_value_at(e, s, 5 * minute).found);
 }
 
@@ -132,11 +134,12 @@ TEST(ProbeCheck, ExactlyAtTheToleranceAgreesJustAboveDisagrees) {
     EXPECT_EQ(above.outcome, check_outcome::disagrees);
     EXPECT_DOUBLE_EQ(above.difference, 1.125);
     // A probe reading low disagrees as much as one reading high.
-    EXPECT_EQ(conditioning::judge(e, s, check_reading{6.125, 10 * minute}).outcome, check_outcome::disagrees);
+    EXPECT_EQ(conditioning::judge(e, s, check_reading{6.125, 10 * minute}).outcome,
+              check_outcome::disagrees);
 }
 
 TEST(ProbeCheck, TheRelativePartScalesWithTheCheckReading) {
-    const auto e = check_entry(0.25, 0.125);  // 0.25 mg/L + 12.5 % of the check
+    const auto e = check_entry(0.25, 0.125); // 0.25 mg/L + 12.5 % of the check
     probe_check_state s;
     record_minutes(e, s, 0.0, 20 * minute, [](double) { return good(9.0); });
     // check 8: tolerance 0.25 + 1.0 = 1.25 >= 1.0
@@ -146,7 +149,8 @@ TEST(ProbeCheck, TheRelativePartScalesWithTheCheckReading) {
     // check 2 at a probe of 3: tolerance 0.5 < 1.0
     probe_check_state low;
     record_minutes(e, low, 0.0, 20 * minute, [](double) { return good(3.0); });
-    EXPECT_EQ(conditioning::judge(e, low, check_reading{2.0, 10 * minute}).outcome, check_outcome::disagrees);
+    EXPECT_EQ(conditioning::judge(e, low, check_reading{2.0, 10 * minute}).outcome,
+              check_outcome::disagrees);
 }
 
 TEST(ProbeCheck, ACheckOlderThanTheHistoryIsNotCompared) {
@@ -159,7 +163,8 @@ TEST(ProbeCheck, ACheckOlderThanTheHistoryIsNotCompared) {
     EXPECT_TRUE(std::isnan(v.difference));
     // ... and leaves the probe as it is.
     std::optional<check_verdict> judged;
-    const signal out = conditioning::check_probe(e, s, good(9.0), check_reading{4.0, 1 * hour}, 3 * hour, judged);
+    const signal out =
+        conditioning::check_probe(e, s, good(9.0), check_reading{4.0, 1 * hour}, 3 * hour, judged);
     ASSERT_TRUE(judged.has_value());
     EXPECT_EQ(judged->outcome, check_outcome::no_probe_value);
     EXPECT_EQ(out.q, quality::good);
@@ -170,9 +175,11 @@ TEST(ProbeCheck, AProbeBadAtTheSampleTimeIsNotCompared) {
     probe_check_state s;
     record_minutes(e, s, 0.0, 60 * minute, [](double t) {
         const signal v = good(9.0);
-        return t >= 20 * minute && t <= 30 * minute ? with(v, quality::bad, reason::read_failed) : v;
+        return t >= 20 * minute && t <= 30 * minute ? with(v, quality::bad, reason::read_failed)
+                                                    : v;
     });
-    EXPECT_EQ(conditioning::judge(e, s, check_reading{4.0, 25 * minute}).outcome, check_outcome::probe_unusable);
+    EXPECT_EQ(conditioning::judge(e, s, check_reading{4.0, 25 * minute}).outcome,
+              check_outcome::probe_unusable);
     // Between a bad point and a good one: not compared either.
     EXPECT_EQ(conditioning::judge(e, s, check_reading{4.0, 30 * minute + 30.0}).outcome,
               check_outcome::probe_unusable);
@@ -180,13 +187,14 @@ TEST(ProbeCheck, AProbeBadAtTheSampleTimeIsNotCompared) {
     probe_check_state u;
     record_minutes(e, u, 0.0, 60 * minute,
                    [](double) { return with(good(9.0), quality::uncertain, reason::read_failed); });
-    EXPECT_EQ(conditioning::judge(e, u, check_reading{4.0, 25 * minute}).outcome, check_outcome::disagrees);
+    EXPECT_EQ(conditioning::judge(e, u, check_reading{4.0, 25 * minute}).outcome,
+              check_outcome::disagrees);
 }
 
 TEST(ProbeCheck, ADisagreeingCheckMarksTheProbeBadUntilALaterCheckAgrees) {
     const auto e = check_entry();
     probe_check_state s;
-    const auto drifting = [](double t) { return good(4.0 + 2.0 * t / hour); };  // +2 mg/L per hour
+    const auto drifting = [](double t) { return good(4.0 + 2.0 * t / hour); }; // +2 mg/L per hour
     double t = 0.0;
     std::optional<check_verdict> judged;
     for (; t <= 60 * minute; t += minute) {
@@ -202,7 +210,7 @@ TEST(ProbeCheck, ADisagreeingCheckMarksTheProbeBadUntilALaterCheckAgrees) {
     EXPECT_NEAR(judged->probe, 4.0 + 2.0 * 50.0 / 60.0, 1e-12);
     EXPECT_EQ(out.q, quality::bad);
     EXPECT_EQ(out.why, reason::check_disagrees);
-    EXPECT_DOUBLE_EQ(out.value, drifting(t).value);  // the value stays what the probe says
+    EXPECT_DOUBLE_EQ(out.value, drifting(t).value); // the value stays what the probe says
     // The same reading is judged once; the probe stays bad while it counts.
     t += minute;
     out = conditioning::check_probe(e, s, drifting(t), grab, t, judged);
@@ -235,7 +243,9 @@ TEST(ProbeCheck, ADisagreeingCheckCountsUntilMaxAge) {
     }
     const check_reading grab{4.0, 30 * minute};
     for (; t <= 30 * minute + 2 * hour; t += minute) {
-        EXPECT_EQ(conditioning::check_probe(e, s, good(6.0), grab, t, judged).why, reason::check_disagrees) << t;
+        EXPECT_EQ(conditioning::check_probe(e, s, good(6.0), grab, t, judged).why,
+                  reason::check_disagrees)
+            << t;
     }
     // Older than max_age: the probe is its own again.
     const signal out = conditioning::check_probe(e, s, good(6.0), grab, t, judged);
@@ -255,7 +265,8 @@ TEST(ProbeCheck, NoCheckLeavesTheSignalUntouched) {
     EXPECT_DOUBLE_EQ(out.value, in.value);
     EXPECT_FALSE(judged.has_value());
     // A check already older than max_age when it arrives is not judged.
-    const signal later = conditioning::check_probe(e, s, good(9.0), check_reading{1.0, 0.0}, 13 * hour, judged);
+    const signal later =
+        conditioning::check_probe(e, s, good(9.0), check_reading{1.0, 0.0}, 13 * hour, judged);
     EXPECT_FALSE(judged.has_value());
     EXPECT_EQ(later.q, quality::good);
 }

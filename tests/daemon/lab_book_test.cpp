@@ -106,6 +106,14 @@ struct probe_bench {
         states[tag] = conditioning::update(cfg.tags[tag], states[tag], conditioning::sample{t, true, no3});
         return checks.run(book, states, t, t, signals);
     }
+    // Ten minutes of the probe at 6 mg/L, then a grab sample of 4.5 mg/L from 600 s: disagrees.
+    void disagree(app::probe_checks& checks, app::lab_book& book) {
+        for (double t = 0.0; t <= 600.0; t += 60.0) {
+            (void)poll(checks, book, t, 6.0);
+        }
+        book.apply(value_write(entry, 4.5), hmi, true, 600.0);
+        (void)poll(checks, book, 660.0, 6.0);
+    }
     const config::plant_config& cfg;
     std::vector<conditioning::state> states;
     std::vector<conditioning::signal> signals;
@@ -140,11 +148,7 @@ TEST(ProbeChecks, AReloadKeepsHistoryAndVerdictByTagName) {
     app::lab_book book{cfg};
     app::probe_checks checks{cfg};
     probe_bench b{cfg};
-    for (double t = 0.0; t <= 600.0; t += 60.0) {
-        (void)b.poll(checks, book, t, 6.0);
-    }
-    book.apply(value_write(b.entry, 4.5), hmi, true, 600.0);
-    (void)b.poll(checks, book, 660.0, 6.0);
+    b.disagree(checks, book);
     // A new config that renames the entry and widens its tolerance to 2 mg/L: judged again on
     // the adopted history, the same reading now agrees.
     auto wider = cfg;
@@ -170,11 +174,7 @@ TEST(ProbeChecks, ADisagreementSurvivesARestartThroughTheStateFile) {
     app::lab_book book{cfg};
     app::probe_checks checks{cfg};
     probe_bench b{cfg};
-    for (double t = 0.0; t <= 600.0; t += 60.0) {
-        (void)b.poll(checks, book, t, 6.0);
-    }
-    book.apply(value_write(b.entry, 4.5), hmi, true, 600.0);
-    (void)b.poll(checks, book, 660.0, 6.0);
+    b.disagree(checks, book);
     store::state_document doc;
     book.save(doc);
     checks.save(doc);

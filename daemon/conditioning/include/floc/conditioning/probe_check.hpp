@@ -32,25 +32,25 @@ inline constexpr double min_history_step_s = 60.0;
 
 // The probe's own conditioned value at one plant time.
 struct history_point {
-    double time_s = 0.0;  // plant time
-    double value = 0.0;   // canonical unit of the tag's quantity (NaN when it never had one)
+    double time_s = 0.0; // plant time
+    double value = 0.0;  // canonical unit of the tag's quantity (NaN when it never had one)
     quality q = quality::bad;
 };
 
 // A check reading: the lab value and the plant time its sample was taken.
 struct check_reading {
-    double value = 0.0;  // canonical unit of the entry's quantity
+    double value = 0.0; // canonical unit of the entry's quantity
     double sample_time_s = 0.0;
 
     friend bool operator==(const check_reading&, const check_reading&) = default;
 };
 
 enum class check_outcome : std::uint8_t {
-    agrees = 0,          // |probe - check| <= tolerance
-    disagrees = 1,       // |probe - check| > tolerance: the probe is marked bad
-    probe_unusable = 2,  // the probe was bad at the sample time: nothing to compare
-    no_probe_value = 3,  // the history does not reach the sample time (older than the history,
-                         // in a gap of it, or later than its last point by more than a step)
+    agrees = 0,         // |probe - check| <= tolerance
+    disagrees = 1,      // |probe - check| > tolerance: the probe is marked bad
+    probe_unusable = 2, // the probe was bad at the sample time: nothing to compare
+    no_probe_value = 3, // the history does not reach the sample time (older than the history,
+                        // in a gap of it, or later than its last point by more than a step)
 };
 
 [[nodiscard]] std::string_view to_string(check_outcome o);
@@ -59,14 +59,14 @@ enum class check_outcome : std::uint8_t {
 struct check_verdict {
     check_reading check;
     check_outcome outcome = check_outcome::no_probe_value;
-    double probe = 0.0;       // the probe's value at the sample time (NaN when there is none)
-    double difference = 0.0;  // probe - check (NaN when not compared)
-    double tolerance = 0.0;   // the allowed |difference| for this reading
+    double probe = 0.0;      // the probe's value at the sample time (NaN when there is none)
+    double difference = 0.0; // probe - check (NaN when not compared)
+    double tolerance = 0.0;  // the allowed |difference| for this reading
 };
 
 // Everything the checks of one tag remember. Plain data; the caller keeps it.
 struct probe_check_state {
-    std::vector<history_point> history;  // oldest first, at most max_history_points
+    std::vector<history_point> history;   // oldest first, at most max_history_points
     std::optional<check_verdict> verdict; // on the latest check reading judged
 };
 
@@ -96,15 +96,15 @@ struct probe_value {
 // The tag's signal after its check: `own` unchanged, except that a good or uncertain signal is
 // bad/check_disagrees while the verdict disagrees and its check is not older than max_age at
 // `now_s`. A signal already bad keeps its own reason (it says more about the probe).
-[[nodiscard]] signal apply(const config::lab_entry& entry, const probe_check_state& s, const signal& own,
-                           double now_s);
+[[nodiscard]] signal apply(const config::lab_entry& entry, const probe_check_state& s,
+                           const signal& own, double now_s);
 
 // One round for one checked tag at plant time `now_s`: records `own`, judges `latest` when it
 // differs from the reading last judged (and is not older than max_age), and returns the signal
 // after the check. `judged` receives the new verdict when there was one. No check reading, or
 // one older than max_age, clears the verdict.
-[[nodiscard]] signal check_probe(const config::lab_entry& entry, probe_check_state& s, const signal& own,
-                                 const std::optional<check_reading>& latest, double now_s,
-                                 std::optional<check_verdict>& judged);
+[[nodiscard]] signal check_probe(const config::lab_entry& entry, probe_check_state& s,
+                                 const signal& own, const std::optional<check_reading>& latest,
+                                 double now_s, std::optional<check_verdict>& judged);
 
 } // namespace floc::conditioning
