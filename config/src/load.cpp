@@ -414,6 +414,58 @@ void read_plcs_and_tags(loader& l, table_reader& root) {
 
 // --- [[lab_entry]] -----------------------------------------------------------------------------
 
+namespace {
+
+// `checks`, `check_tolerance`, `check_relative_tolerance`: the entry is a check reading of a tag.
+void read_probe_check(loader& l, table_reader& t, lab_entry& e) {
+    if (!t.has("checks")) {
+        for (const std::string_view key : {"check_tolerance", "check_relative_tolerance"}) {
+            if (t.has(key)) {
+                t.diags().error(t.pos_of(key), t.path_of(key),
+                                std::string{key} + " on an entry that checks no tag",
+                                "checks = \"TAG\" naming the [[tag]] this entry is a check reading "
+                                "of, or no " + std::string{key});
+            }
+        }
+        t.skip({"check_tolerance", "check_relative_tolerance"});
+        return;
+    }
+    probe_check c;
+    c.tag = l.signal(t, "checks", need::required, signal_source::tag_only, e.kind);
+    if (!c.tag.empty()) {
+        const auto [it, inserted] = l.checked_tags.emplace(
+            c.tag.name, std::pair{e.name.empty() ? t.path() : e.name, c.tag.at});
+        if (!inserted) {
+            t.diags().error(c.tag.at, t.path_of("checks"),
+                            quote(c.tag.name) + ", already checked by lab entry " +
+                                quote(it->second.first) + " at line " +
+                                std::to_string(it->second.second.line),
+                            "one check entry per tag");
+        }
+    }
+    const units::unit* plain = e.kind == units::quantity::dimensionless
+                                   ? &units::canonical_unit(units::quantity::dimensionless)
+                                   : nullptr;
+    const std::optional<double> tolerance =
+        t.quantity("check_tolerance", e.kind, -inf, inf, need::required, plain, measure::difference);
+    if (tolerance && !(*tolerance > 0.0)) {
+        t.diags().error(t.pos_of("check_tolerance"), t.path_of("check_tolerance"),
+                        "a tolerance of " +
+                            units::format(*tolerance, units::canonical_unit(e.kind)),
+                        "a difference above 0, " + describe_quantity_example(e.kind));
+    }
+    c.tolerance = tolerance.value_or(0.0);
+    c.relative_tolerance =
+        t.quantity("check_relative_tolerance", units::quantity::dimensionless, 0.0, 1.0,
+                   need::optional, &units::canonical_unit(units::quantity::dimensionless))
+            .value_or(0.0);
+    if (!c.tag.empty()) {
+        e.check = std::move(c);
+    }
+}
+
+} // namespace
+
 void read_lab(loader& l, table_reader& root) {
     root.each_table("lab_entry", [&](table_reader& t, std::size_t) {
         lab_entry e;
@@ -438,7 +490,7 @@ void read_lab(loader& l, table_reader& root) {
                 e.valid_max = range->second;
             }
         } else {
-            t.skip({"range"});
+            t.skip({"range", "checks", "check_tolerance", "check_relative_tolerance"});
             if (name) {
                 l.broken_signals.insert(*name);
             }
@@ -449,6 +501,9 @@ void read_lab(loader& l, table_reader& root) {
         if (name) {
             e.name = *name;
             l.claim(l.signal_names, e.name, e.at, t.path_of("name"), "tag or lab entry");
+        }
+        if (q) {
+            read_probe_check(l, t, e);
         }
         l.cfg.lab.push_back(std::move(e));
     });

@@ -24,6 +24,8 @@ struct loader {
     // Tags and lab entries whose own definition had an error: references to them are left
     // unresolved without a second message.
     std::set<std::string, std::less<>> broken_signals;
+    // Tags checked by a lab entry (`checks`): the entry's name and where it named the tag.
+    std::map<std::string, std::pair<std::string, source_pos>, std::less<>> checked_tags;
     bool plc_key_present = false;
 
     // Records `name` in `registry`; reports a duplicate (with where it was first used).

@@ -48,6 +48,35 @@ store::json_object advice_record(const advisor_outcome& o, const config::plant_c
     return r;
 }
 
+store::json_object probe_check_record(const probe_check_event& e, const config::plant_config& cfg) {
+    const conditioning::check_verdict& v = e.verdict;
+    const config::lab_entry& entry = cfg.lab.at(e.entry);
+    const bool compared = v.outcome == conditioning::check_outcome::agrees ||
+                          v.outcome == conditioning::check_outcome::disagrees;
+    store::json_object r;
+    r.add("event", "probe_check");
+    r.add("entry", entry.name);
+    r.add("tag", cfg.tags.at(e.tag).name);
+    r.add("sample_time_s", v.check.sample_time_s);
+    r.add("check", v.check.value);
+    if (compared) {
+        r.add("probe", v.probe);
+        r.add("difference", v.difference);
+    } else {
+        r.add_null("probe");
+        r.add_null("difference");
+    }
+    r.add("tolerance", v.tolerance);
+    r.add("unit", units::canonical_unit(entry.kind).symbol);
+    if (compared) {
+        r.add("agrees", v.outcome == conditioning::check_outcome::agrees);
+    } else {
+        r.add_null("agrees");
+    }
+    r.add("outcome", conditioning::to_string(v.outcome));
+    return r;
+}
+
 store::json_object journal_line(const store::json_object& record, double wall_unix_s,
                                 std::optional<double> plant_time_s, std::string_view site) {
     store::json_object line;

@@ -105,3 +105,117 @@ void lab_book::load(const store::state_document& doc) {
 }
 
 } // namespace floc::app
+
+namespace floc::app {
+namespace {
+
+std::string check_section_of(const config::lab_entry& e) { return "probe_check." + e.name; }
+
+} // namespace
+
+probe_checks::probe_checks(const config::plant_config& cfg) : cfg_(cfg) {
+    for (std::size_t i = 0; i < cfg.lab.size(); ++i) {
+        if (cfg.lab[i].check) {
+            checks_.push_back(checked{i, cfg.lab[i].check->tag.index, {}});
+        }
+    }
+}
+
+std::vector<probe_check_event> probe_checks::run(const lab_book& labs,
+                                                 std::span<const conditioning::state> states,
+                                                 double steady_now_s, double plant_now_s,
+                                                 std::span<conditioning::signal> signals) {
+    std::vector<probe_check_event> judged;
+    for (checked& c : checks_) {
+        const config::lab_entry& e = cfg_.lab.at(c.entry);
+        const conditioning::signal own = conditioning::assess(cfg_.tags.at(c.tag), states[c.tag], steady_now_s);
+        std::optional<conditioning::check_reading> latest;
+        if (const auto& sample = labs.current(c.entry)) {
+            latest = conditioning::check_reading{sample->value, sample->sample_time_s};
+        }
+        std::optional<conditioning::check_verdict> verdict;
+        signals[c.tag] = conditioning::check_probe(e, c.state, own, latest, plant_now_s, verdict);
+        if (verdict) {
+            judged.push_back(probe_check_event{c.entry, c.tag, *verdict});
+        }
+    }
+    return judged;
+}
+
+void probe_checks::adopt(const probe_checks& old) {
+    for (checked& c : checks_) {
+        const std::string& tag = cfg_.tags.at(c.tag).name;
+        for (const checked& o : old.checks_) {
+            if (old.cfg_.tags.at(o.tag).name != tag) {
+                continue;
+            }
+            c.state = o.state;
+            // The new config may have another tolerance: judge the reading again when the
+            // history still reaches it.
+            if (c.state.verdict) {
+                const conditioning::check_verdict again =
+                    conditioning::judge(cfg_.lab.at(c.entry), c.state, c.state.verdict->check);
+                if (again.outcome != conditioning::check_outcome::no_probe_value) {
+                    c.state.verdict = again;
+                }
+            }
+        }
+    }
+}
+
+const conditioning::probe_check_state* probe_checks::state_of_tag(std::size_t tag) const {
+    for (const checked& c : checks_) {
+        if (c.tag == tag) {
+            return &c.state;
+        }
+    }
+    return nullptr;
+}
+
+void probe_checks::save(store::state_document& doc) const {
+    for (const checked& c : checks_) {
+        if (!c.state.verdict) {
+            continue;
+        }
+        const conditioning::check_verdict& v = *c.state.verdict;
+        store::state_section& out = doc.sections[check_section_of(cfg_.lab.at(c.entry))];
+        out["tag"] = cfg_.tags.at(c.tag).name;
+        out["check"] = v.check.value;
+        out["sample_time_s"] = v.check.sample_time_s;
+        out["outcome"] = std::string{conditioning::to_string(v.outcome)};
+        out["probe"] = v.probe;
+        out["difference"] = v.difference;
+        out["tolerance"] = v.tolerance;
+    }
+}
+
+void probe_checks::load(const store::state_document& doc) {
+    for (checked& c : checks_) {
+        const std::string name = check_section_of(cfg_.lab.at(c.entry));
+        if (!doc.has(name) || doc.text(name, "tag") != cfg_.tags.at(c.tag).name) {
+            continue;  // none saved, or the entry checked another tag then
+        }
+        const std::string outcome = doc.text(name, "outcome");
+        conditioning::check_verdict v;
+        bool known = false;
+        for (const auto o : {conditioning::check_outcome::agrees, conditioning::check_outcome::disagrees,
+                             conditioning::check_outcome::probe_unusable,
+                             conditioning::check_outcome::no_probe_value}) {
+            if (outcome == conditioning::to_string(o)) {
+                v.outcome = o;
+                known = true;
+            }
+        }
+        v.check.value = doc.number(name, "check", std::nan(""));
+        v.check.sample_time_s = doc.number(name, "sample_time_s", std::nan(""));
+        if (!known || !std::isfinite(v.check.value) || !std::isfinite(v.check.sample_time_s)) {
+            continue;
+        }
+        v.probe = doc.number(name, "probe", std::nan(""));
+        v.difference = doc.number(name, "difference", std::nan(""));
+        v.tolerance = doc.number(name, "tolerance", 0.0);
+        c.state.verdict = v;
+    }
+}
+
+} // namespace floc::app

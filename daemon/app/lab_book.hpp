@@ -1,13 +1,17 @@
 // Lab entries the operator types in on the HMI: range-checked, acknowledged, remembered across
-// restarts (through the state file) and handed to the advisors with their sample time. Pure.
+// restarts (through the state file) and handed to the advisors with their sample time; and the
+// probe checks of the entries that are check readings of a tag. Pure.
 #pragma once
 
+#include "floc/conditioning/conditioning.hpp"
+#include "floc/conditioning/probe_check.hpp"
 #include "floc/config/config.hpp"
 #include "floc/registers/image.hpp"
 #include "floc/store/state_file.hpp"
 
 #include <cstdint>
 #include <optional>
+#include <span>
 #include <vector>
 
 namespace floc::app {
@@ -53,6 +57,52 @@ private:
     };
     const config::plant_config& cfg_;
     std::vector<slot> entries_;
+};
+
+// A check reading judged against its probe (README.md, "Probe checks").
+struct probe_check_event {
+    std::size_t entry = 0;  // the lab entry
+    std::size_t tag = 0;    // the tag it checks
+    conditioning::check_verdict verdict;
+};
+
+// The probe checks of every lab entry that names a tag (`checks`), one state per such entry: the
+// service and `flocd replay` condition their signals through the same round. Pure.
+class probe_checks {
+public:
+    explicit probe_checks(const config::plant_config& cfg);
+
+    probe_checks(const probe_checks&) = delete;
+    probe_checks& operator=(const probe_checks&) = delete;
+    probe_checks(probe_checks&&) = delete;
+    probe_checks& operator=(probe_checks&&) = delete;
+    ~probe_checks() = default;
+
+    // One round at plant time `plant_now_s`: each checked tag's own signal (assessed from
+    // `states` at conditioning time `steady_now_s`) goes into its history, a new check reading
+    // in `labs` is judged, and `signals[tag]` becomes the signal after its check. Returns the
+    // check readings judged in this round.
+    std::vector<probe_check_event> run(const lab_book& labs, std::span<const conditioning::state> states,
+                                       double steady_now_s, double plant_now_s,
+                                       std::span<conditioning::signal> signals);
+
+    // Takes over histories and verdicts from an older config, matching by the checked tag's name.
+    void adopt(const probe_checks& old);
+    // The verdicts (not the histories) go into the state file, so that a disagreeing check
+    // still counts after a restart.
+    void save(store::state_document& doc) const;
+    void load(const store::state_document& doc);
+
+    [[nodiscard]] const conditioning::probe_check_state* state_of_tag(std::size_t tag) const;
+
+private:
+    struct checked {
+        std::size_t entry = 0;
+        std::size_t tag = 0;
+        conditioning::probe_check_state state;
+    };
+    const config::plant_config& cfg_;
+    std::vector<checked> checks_;
 };
 
 } // namespace floc::app

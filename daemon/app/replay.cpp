@@ -63,7 +63,7 @@ std::string expected_value(const units::unit& u) {
 
 replayer::replayer(const config::plant_config& cfg, std::istream& in, options o)
     : shown_(cfg), input_display_(cfg.display), o_(std::move(o)), csv_(in), engine_(shown_),
-      labs_(shown_), states_(shown_.tags.size()), signals_(shown_.tags.size()),
+      labs_(shown_), checks_(shown_), states_(shown_.tags.size()), signals_(shown_.tags.size()),
       gap_signals_(shown_.tags.size()) {
     if (o_.units) {
         const units::unit_system sys = *o_.units;
@@ -329,8 +329,20 @@ void replayer::fill_gap(const row_time& now, const run_sink& sink) {
         for (std::size_t i = 0; i < shown_.tags.size(); ++i) {
             gap_signals_[i] = conditioning::assess(shown_.tags[i], states_[i], at_s);
         }
+        check_probes(gap_signals_, at_s, *due);
         const input_view in{gap_signals_, labs_, *due, at_s};
         emit(engine_.run_due(in, false), row_time{at_s, *due, now.line}, true, sink);
+    }
+}
+
+void replayer::check_probes(std::vector<conditioning::signal>& signals, double order_s, double plant_s) {
+    for (const probe_check_event& e : checks_.run(labs_, states_, order_s, plant_s, signals)) {
+        ++sum_.probe_checks;
+        sum_.probe_checks_disagreed +=
+            e.verdict.outcome == conditioning::check_outcome::disagrees ? 1U : 0U;
+        if (check_sink_) {
+            check_sink_(e, plant_s);
+        }
     }
 }
 
@@ -405,6 +417,7 @@ bool replayer::read_row(const run_sink& sink) {
     for (std::size_t i = 0; i < shown_.tags.size(); ++i) {
         signals_[i] = conditioning::assess(shown_.tags[i], states_[i], now.order_s);
     }
+    check_probes(signals_, now.order_s, now.plant_s);
     const input_view in{signals_, labs_, now.plant_s, now.order_s};
     emit(engine_.run_due(in, false), now, false, sink);
     if (from_order_s_ && now.order_s < *from_order_s_) {
@@ -419,10 +432,11 @@ bool replayer::read_row(const run_sink& sink) {
     return true;
 }
 
-void replayer::run_rows(const run_sink& sink) {
+void replayer::run_rows(const run_sink& sink, const probe_check_sink& checks) {
     if (sum_.fatal) {
         return;
     }
+    check_sink_ = checks;
     while (read_row(sink)) {
     }
     finish();
@@ -539,6 +553,10 @@ std::string summary_text(const summary& s, std::string_view input_name,
         out << "  " << key << cell(t.runs, 9) << cell(t.changes, 9) << cell(t.by_quality[0], 9)
             << cell(t.by_quality[1], 9) << cell(t.by_quality[2], 9) << cell(t.by_quality[3], 12)
             << "\n";
+    }
+    if (s.probe_checks > 0) {
+        out << "  probe checks " << s.probe_checks << " check reading(s) judged, "
+            << s.probe_checks_disagreed << " disagreed with their probe\n";
     }
     if (s.longest_gap_s > 0.0) {
         out << "  longest gap between rows: " << advisors::text_duration(s.longest_gap_s) << "\n";
@@ -774,6 +792,14 @@ int run_replay(std::span<const std::string_view> args, std::ostream& out, std::o
 
     *advice << replayer::csv_header() << "\n";
     std::optional<double> last_plant_s;
+    const auto journal_check = [&](const probe_check_event& e, double plant_s) {
+        if (journal.is_open()) {
+            journal << app::journal_line(probe_check_record(e, r.shown()), wall_now_s(), plant_s,
+                                         cfg->site.name)
+                           .str()
+                    << "\n";
+        }
+    };
     r.run_rows([&](const run& x) {
         *advice << r.csv_row(x) << "\n";
         last_plant_s = x.plant_time_s;
@@ -783,7 +809,7 @@ int run_replay(std::span<const std::string_view> args, std::ostream& out, std::o
                            .str()
                     << "\n";
         }
-    });
+    }, journal_check);
     const summary& s = r.result();
     if (journal.is_open()) {
         const auto stop = app::journal_line(

@@ -67,6 +67,8 @@ struct summary {
     std::size_t runs_between_rows = 0;
     std::size_t runs_written = 0;
     std::vector<advisor_tally> advisors;
+    std::size_t probe_checks = 0;           // check readings judged against their probe
+    std::size_t probe_checks_disagreed = 0; // of them, readings that disagreed
     std::size_t gaps_not_filled = 0; // gaps longer than max_gap_s
     double longest_gap_s = 0.0;
     bool fatal = false;                // the input cannot be replayed (its header is wrong)
@@ -81,6 +83,8 @@ struct summary {
 };
 
 using run_sink = std::function<void(const run&)>;
+// A check reading judged against its probe, with the plant time it was judged at.
+using probe_check_sink = std::function<void(const probe_check_event&, double plant_s)>;
 
 class replayer {
 public:
@@ -93,8 +97,9 @@ public:
 
     // Reads and checks the header. False when the input cannot be replayed (see result()).
     bool start();
-    // Replays every row (up to options::to), handing each run to be written to `sink`.
-    void run_rows(const run_sink& sink);
+    // Replays every row (up to options::to), handing each run to be written to `sink` and each
+    // check reading judged to `checks`.
+    void run_rows(const run_sink& sink, const probe_check_sink& checks = {});
 
     [[nodiscard]] const summary& result() const { return sum_; }
     // The config the advisors run on: the given one, in the output's display units.
@@ -124,6 +129,7 @@ private:
     void feed_tag(const column& c, const csv_cell& cell, double order_s);
     void feed_lab(const column& c, const csv_cell& cell, double plant_s);
     void fill_gap(const row_time& now, const run_sink& sink);
+    void check_probes(std::vector<conditioning::signal>& signals, double order_s, double plant_s);
     void emit(std::vector<std::pair<std::size_t, advisor_outcome>> runs, const row_time& at,
               bool between_rows, const run_sink& sink);
     [[nodiscard]] double plant_of(double order_s) const;
@@ -136,6 +142,8 @@ private:
     csv_reader csv_;
     advisor_engine engine_;
     lab_book labs_;
+    probe_checks checks_;
+    probe_check_sink check_sink_;
     std::vector<conditioning::state> states_;
     std::vector<conditioning::signal> signals_;
     std::vector<conditioning::signal> gap_signals_;

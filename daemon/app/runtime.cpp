@@ -15,7 +15,7 @@ namespace floc::app {
 runtime::runtime(config::plant_config cfg, boost::asio::any_io_executor executor,
                  std::shared_ptr<spdlog::logger> log, std::chrono::steady_clock::time_point epoch)
     : cfg_(std::move(cfg)), executor_(std::move(executor)), log_(std::move(log)), epoch_(epoch),
-      map_(registers::build(cfg_)), image_(map_, cfg_), labs_(cfg_), advisors_(cfg_), clock_(cfg_.clock.source),
+      map_(registers::build(cfg_)), image_(map_, cfg_), labs_(cfg_), checks_(cfg_), advisors_(cfg_), clock_(cfg_.clock.source),
       states_(cfg_.tags.size()), signals_(cfg_.tags.size()), links_(cfg_.plcs.size()),
       polled_(cfg_.plcs.size(), false) {
     for (std::size_t i = 0; i < cfg_.plcs.size(); ++i) {
@@ -61,6 +61,7 @@ void runtime::adopt(const runtime& old) {
     store::state_document doc;
     old.labs_.save(doc);
     labs_.load(doc);
+    checks_.adopt(old.checks_);
     advisors_.adopt(old.advisors_);
     if (old.clock_.now() && old.clock_.source() == clock_.source()) {
         clock_ = old.clock_;
@@ -84,6 +85,7 @@ void runtime::on_snapshot(const plc::poll_snapshot& snap) {
     links_.at(snap.plc) = snap.link;
     polled_.at(snap.plc) = true;
     const auto& plan = plans_.at(snap.plc);
+    std::vector<bool> touched(cfg_.tags.size(), false);
     for (const plc::read_result& r : snap.results) {
         const plc::read_request& req = plan.at(r.request);
         for (const std::size_t ti : req.tags) {
@@ -96,11 +98,22 @@ void runtime::on_snapshot(const plc::poll_snapshot& snap) {
             }
             states_[ti] = conditioning::update(t, states_[ti], s);
             signals_[ti] = conditioning::assess(t, states_[ti], now);
-            image_.put_input(ti, signals_[ti], now);
+            touched[ti] = true;
             if (cfg_.clock.source == config::clock_source::plc_tag && cfg_.clock.tag.index == ti &&
                 signals_[ti].q == conditioning::quality::good) {
                 clock_.tag_time(signals_[ti].value);
             }
+        }
+    }
+    check_probes();
+    for (const config::lab_entry& e : cfg_.lab) {
+        if (e.check) {
+            touched.at(e.check->tag.index) = true;
+        }
+    }
+    for (std::size_t ti = 0; ti < touched.size(); ++ti) {
+        if (touched[ti]) {
+            image_.put_input(ti, signals_[ti], now);
         }
     }
     run_advisors(false);
@@ -119,6 +132,9 @@ void runtime::on_tick(std::uint16_t heartbeat, double uptime_s, std::uint16_t co
     bool all_good = true;
     for (std::size_t i = 0; i < cfg_.tags.size(); ++i) {
         signals_[i] = conditioning::assess(cfg_.tags[i], states_[i], now);
+    }
+    check_probes();
+    for (std::size_t i = 0; i < cfg_.tags.size(); ++i) {
         image_.put_input(i, signals_[i], now);
         all_good = all_good && signals_[i].q == conditioning::quality::good;
     }
@@ -188,6 +204,7 @@ void runtime::load_state() {
     }
     const auto& doc = std::get<store::state_document>(parsed);
     labs_.load(doc);
+    checks_.load(doc);
     advisors_.load(doc);
     log_->info("state restored from {}", path.string());
 }
@@ -195,6 +212,7 @@ void runtime::load_state() {
 bool runtime::save_state() {
     store::state_document doc;
     labs_.save(doc);
+    checks_.save(doc);
     advisors_.save(doc);
     const std::filesystem::path path = state_path();
     if (const std::error_code ec = store::atomic_write(path, store::to_text(doc))) {
@@ -227,6 +245,39 @@ void runtime::journal_line(const store::json_object& body) {
         return;
     }
     journal_ok_ = true;
+}
+
+void runtime::check_probes() {
+    const std::optional<double> plant_now = clock_.now();
+    if (!plant_now) {
+        return;  // no plant time yet: lab samples and the probes' history have no time line
+    }
+    for (const probe_check_event& e : checks_.run(labs_, states_, seconds(), *plant_now, signals_)) {
+        journal_line(probe_check_record(e, cfg_));
+        const config::lab_entry& entry = cfg_.lab.at(e.entry);
+        const conditioning::check_verdict& v = e.verdict;
+        const units::unit& u = shown_unit(cfg_.display, entry.kind);
+        const auto shown = [&](double canonical) { return units::format(canonical, u); };
+        const double tolerance_shown =
+            units::from_canonical(v.check.value + v.tolerance, u) - units::from_canonical(v.check.value, u);
+        const std::string& tag = cfg_.tags.at(e.tag).name;
+        switch (v.outcome) {
+        case conditioning::check_outcome::disagrees:
+            log_->warn("probe check {}: {} read {} when the sample was taken, the check {}: more than {:.4g} {} "
+                       "apart; {} is bad (check disagrees) until a newer check agrees",
+                       entry.name, tag, shown(v.probe), shown(v.check.value), tolerance_shown, u.symbol, tag);
+            break;
+        case conditioning::check_outcome::agrees:
+            log_->info("probe check {}: {} read {} when the sample was taken, the check {}: agrees", entry.name,
+                       tag, shown(v.probe), shown(v.check.value));
+            break;
+        case conditioning::check_outcome::probe_unusable:
+        case conditioning::check_outcome::no_probe_value:
+            log_->info("probe check {}: {} had no usable value when the sample was taken; not compared",
+                       entry.name, tag);
+            break;
+        }
+    }
 }
 
 void runtime::run_advisors(bool force) {
@@ -296,6 +347,11 @@ modbus::refusal runtime::write_registers(std::uint16_t address, std::span<const 
                    units::format(w->value, e.kind == units::quantity::dimensionless ? units::canonical_unit(e.kind)
                                                                                    : cfg_.display.unit_for(e.kind)),
                    config::format_network({client.address_v4, 32}));
+        if (e.check) {
+            // A check reading counts at once: its probe's input slot follows before the next poll.
+            check_probes();
+            image_.put_input(e.check->tag.index, signals_.at(e.check->tag.index), seconds());
+        }
         if (!save_state()) {
             labs_.mark_store_failed(w->entry);
             image_.put_lab(w->entry, labs_.info(w->entry, now));

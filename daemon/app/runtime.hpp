@@ -40,8 +40,8 @@ public:
     void start_pollers();
     void stop_pollers();
 
-    // Takes over conditioning states, lab entries and advisor states from an older runtime,
-    // matching by name.
+    // Takes over conditioning states, lab entries, probe checks and advisor states from an older
+    // runtime, matching by name.
     void adopt(const runtime& old);
 
     void on_snapshot(const plc::poll_snapshot& snap);
@@ -75,6 +75,10 @@ public:
     [[nodiscard]] std::filesystem::path state_path() const;
 
 private:
+    // The probe checks' round at the current plant time (signals_ of the checked tags become
+    // their signals after the check); journals and logs the checks judged.
+    void check_probes();
+
     config::plant_config cfg_;
     boost::asio::any_io_executor executor_;
     std::shared_ptr<spdlog::logger> log_;
@@ -82,6 +86,7 @@ private:
     registers::register_map map_;
     registers::image image_;
     lab_book labs_;
+    probe_checks checks_;
     advisor_engine advisors_;
     plant_clock clock_;
     std::vector<conditioning::state> states_;

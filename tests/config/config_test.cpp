@@ -139,6 +139,50 @@ TEST(Examples, ReferencesResolveToTheRightThings) {
     }
 }
 
+// Check entries (`checks`, `check_tolerance`, `check_relative_tolerance`) resolve to their tag,
+// in both examples alike.
+TEST(Examples, CheckEntriesNameTheirProbeAndTolerance) {
+    for (const char* file : {"config/examples/marrowby-si.toml", "config/examples/marrowby-us.toml"}) {
+        const load_result r = load_file((source_dir / file).string());
+        ASSERT_TRUE(r.ok()) << all_messages(r);
+        const auto& cfg = *r.config;
+        const auto* no3 = cfg.find_lab("a_anoxic_no3_check");
+        ASSERT_NE(no3, nullptr) << file;
+        ASSERT_TRUE(no3->check.has_value());
+        EXPECT_EQ(cfg.tags.at(no3->check->tag.index).name, "a_anoxic_no3");
+        EXPECT_FALSE(no3->check->tag.is_lab);
+        EXPECT_DOUBLE_EQ(no3->check->tolerance, 1.0);
+        EXPECT_DOUBLE_EQ(no3->check->relative_tolerance, 0.0);
+        const auto* oxygen = cfg.find_lab("a_oxic1_do_check");
+        ASSERT_NE(oxygen, nullptr) << file;
+        ASSERT_TRUE(oxygen->check.has_value());
+        EXPECT_EQ(cfg.tags.at(oxygen->check->tag.index).name, "a_oxic1_do");
+        EXPECT_DOUBLE_EQ(oxygen->check->tolerance, 0.2);
+        EXPECT_DOUBLE_EQ(oxygen->check->relative_tolerance, 0.05);  // "5 %"
+        // The other lab entries check nothing.
+        EXPECT_FALSE(cfg.find_lab("a_mlss")->check.has_value());
+    }
+}
+
+TEST(LoadText, ACheckToleranceIsADifferenceInTheEntrysQuantity) {
+    const std::string text = read_text(source_dir / "tests/config/valid/minimal.toml") + R"(
+[[lab_entry]]
+name = "temp_check"
+quantity = "temperature"
+range = ["32 degF", "95 degF"]
+checks = "temp"
+check_tolerance = "0.9 degF"
+check_relative_tolerance = 0.02
+)";
+    const load_result r = load_text(text, "check.toml");
+    ASSERT_TRUE(r.ok()) << all_messages(r);
+    const auto& e = r.config->lab.back();
+    ASSERT_TRUE(e.check.has_value());
+    EXPECT_NEAR(e.check->tolerance, 0.5, 1e-12);  // 0.9 degF as a difference is 0.5 K
+    EXPECT_DOUBLE_EQ(e.check->relative_tolerance, 0.02);
+    EXPECT_EQ(r.config->tags.at(e.check->tag.index).name, "temp");
+}
+
 // The advisors' parameters are complete after loading: the plant geometry they need, the hold
 // time and the text units are filled in from the rest of the file.
 TEST(Examples, AdvisorParametersCarryThePlantGeometry) {

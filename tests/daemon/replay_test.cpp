@@ -587,6 +587,83 @@ TEST(ReplayAdvisors, ANotANumberStretchIsBadThenTheAdviceRecovers) {
     EXPECT_TRUE(fallback);
 }
 
+// A drifting anoxic nitrate probe caught by a grab sample (README.md, "Probe checks"): the
+// check column a_anoxic_no3_check (tolerance 1 mg/L, max_age 12 h in marrowby-si.toml) is a
+// sample taken at its row's time. The probe drifts upwards by 2 mg/L per hour from 1 h on; the
+// sample at 100 min finds the true value, 1.33 mg/L below the probe: the probe is bad
+// (check_disagrees) from that row on, and the recycle advice of train A, which uses it, is held
+// and then falls back (hold_for 30 min). The probe is recalibrated at 140 min; the next sample,
+// at 150 min, agrees and the advice is good again. Invented data.
+TEST(ReplayAdvisors, ADriftingProbeIsCaughtByACheckAndClearedByTheNextOne) {
+    const auto cfg = load(si_config);
+    const config::lab_entry* check = cfg.find_lab("a_anoxic_no3_check");
+    ASSERT_NE(check, nullptr);
+    ASSERT_TRUE(check->check.has_value());
+    ASSERT_EQ(check->check->tag.name, "a_anoxic_no3");
+    ASSERT_DOUBLE_EQ(check->check->tolerance, 1.0);
+    ASSERT_DOUBLE_EQ(cfg.recycle.at(0).common.hold_for_s, 1800.0);
+    const auto truth = [](double t) { return 1.2 + 0.05 * std::sin(t / 600.0); };
+    const auto drift = [](double t) { return t >= 3600.0 && t < 8400.0 ? 2.0 * (t - 3600.0) / 3600.0 : 0.0; };
+    history h{{"a_influent_flow", "a_anoxic_no3", "a_anoxic_no3_check"}};
+    for (double t = 0.0; t < 4 * 3600.0; t += 60.0) {
+        const bool sample = t == 6000.0 || t == 9000.0;
+        h.row(t, {num(4400.0 + 100.0 * std::sin(t / 3000.0)), num(truth(t) + drift(t)),
+                  sample ? num(truth(t)) : ""});
+    }
+    std::istringstream in{h.text()};
+    replayer r{cfg, in, options{}};
+    ASSERT_TRUE(r.start());
+    std::vector<std::pair<double, app::probe_check_event>> checks;
+    std::vector<recorded> runs;
+    r.run_rows(
+        [&](const run& x) {
+            if (x.outcome.key == "recycle.A") {
+                runs.push_back(recorded{x.outcome.key, x.plant_time_s, x.time, x.line, x.between_rows,
+                                        x.outcome.changed, x.outcome.advice, x.outcome.inputs, ""});
+            }
+        },
+        [&](const app::probe_check_event& e, double plant_s) { checks.emplace_back(plant_s, e); });
+    ASSERT_TRUE(r.result().clean());
+    EXPECT_EQ(r.result().probe_checks, 2U);
+    EXPECT_EQ(r.result().probe_checks_disagreed, 1U);
+
+    // Each check is judged at its own row, against the probe's value at the sample time.
+    ASSERT_EQ(checks.size(), 2U);
+    EXPECT_DOUBLE_EQ(checks[0].first, 6000.0);
+    EXPECT_EQ(checks[0].second.verdict.outcome, conditioning::check_outcome::disagrees);
+    EXPECT_NEAR(checks[0].second.verdict.check.value, truth(6000.0), 1e-6);
+    // The probe's median (5 samples) trails the drift by two minutes: 1.33 - 0.07 mg/L above.
+    EXPECT_NEAR(checks[0].second.verdict.difference, drift(6000.0 - 120.0), 0.02);
+    EXPECT_DOUBLE_EQ(checks[0].second.verdict.tolerance, 1.0);
+    EXPECT_DOUBLE_EQ(checks[1].first, 9000.0);
+    EXPECT_EQ(checks[1].second.verdict.outcome, conditioning::check_outcome::agrees);
+    const auto journal = app::probe_check_record(checks[0].second, r.shown()).str();
+    EXPECT_NE(journal.find("\"event\":\"probe_check\""), std::string::npos) << journal;
+    EXPECT_NE(journal.find("\"tag\":\"a_anoxic_no3\""), std::string::npos) << journal;
+    EXPECT_NE(journal.find("\"agrees\":false"), std::string::npos) << journal;
+
+    ASSERT_EQ(runs.size(), 48U);  // every 5 min for 4 h
+    bool held = false;
+    bool fallback = false;
+    for (const recorded& x : runs) {
+        if (x.plant_s >= 6000.0 && x.plant_s < 9000.0) {
+            EXPECT_EQ(x.input("nitrate"), signal_quality::bad) << x.time;
+            EXPECT_TRUE(has_reason(x.advice, reason::input_bad)) << x.time;
+            held = held || x.advice.quality == advice_quality::held;
+            fallback = fallback || x.advice.quality == advice_quality::fallback;
+            if (x.plant_s >= 6000.0 + 1800.0 + 300.0) {
+                EXPECT_EQ(x.advice.quality, advice_quality::fallback) << x.time;
+            }
+        } else {
+            // Before the check the drift went unnoticed: the advice kept trusting the probe.
+            EXPECT_EQ(x.input("nitrate"), signal_quality::good) << x.time;
+            EXPECT_EQ(x.advice.quality, advice_quality::good) << x.time;
+        }
+    }
+    EXPECT_TRUE(held);
+    EXPECT_TRUE(fallback);
+}
+
 // A steady history gives, run for run, what the pure advisor gives for the same inputs at the
 // same plant times: the replay adds nothing of its own.
 TEST(ReplayAdvisors, ASteadyHistoryGivesWhatThePureAdvisorsGive) {

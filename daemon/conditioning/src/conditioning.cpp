@@ -85,6 +85,7 @@ std::string_view to_string(reason r) {
     case reason::spike: return "spike";
     case reason::frozen: return "frozen";
     case reason::stale: return "stale";
+    case reason::check_disagrees: return "check disagrees";
     }
     return "?";
 }

@@ -245,8 +245,11 @@ register_map build(const config::plant_config& cfg) {
         const std::string p = "lab." + e.name + ".";
         const std::string u = unit_text(cfg, e.kind);
         const double scale = int16_scale_for(max_abs_display(cfg, e.kind, e.valid_min, e.valid_max));
+        const std::string checks =
+            e.check ? " (a check reading of " + e.check->tag.name + ": see Probe checks)" : std::string{};
         b.add(base + lab_offset::value, word_type::float32, p + "value", u,
-              e.name + ": lab value; writing both registers (function 16) enters a sample", 1.0, access::lab_write);
+              e.name + ": lab value" + checks + "; writing both registers (function 16) enters a sample", 1.0,
+              access::lab_write);
         b.add(base + lab_offset::value_int16, word_type::int16, p + "value_int16", u,
               e.name + ": lab value, scaled int16; writing it (function 6 or 16) enters a sample", scale,
               access::lab_write);
@@ -319,6 +322,38 @@ std::string to_markdown(const register_map& map, const config::plant_config& cfg
            "`sample_minutes_ago`, then write the value, either as the float32 pair (function 16, both "
            "registers) or as the scaled int16 (function 06); read `status` back: 1 accepted, 2 out of "
            "range, 3 not allowed from this address, 4 not a number, 5 could not be stored.\n\n";
+    bool any_check = false;
+    for (const config::lab_entry& e : cfg.lab) {
+        any_check = any_check || e.check.has_value();
+    }
+    if (any_check) {
+        out += "## Probe checks\n\nA lab entry that checks a tag takes a check reading of its probe (a portable "
+               "meter or a grab sample analysed in the lab). When the reading differs from what the probe showed "
+               "at the sample time by more than the entry's tolerance, the tag's input slot turns bad with reason "
+               "9 (check disagrees) until a newer check agrees or the check is older than the entry's max_age; "
+               "the advice that uses the tag holds, then falls back.\n\n"
+               "| lab entry | checks tag | tolerance |\n|---|---|---|\n";
+        for (const config::lab_entry& e : cfg.lab) {
+            if (!e.check) {
+                continue;
+            }
+            const units::unit& shown = e.kind == units::quantity::dimensionless
+                                           ? units::canonical_unit(e.kind)
+                                           : cfg.display.unit_for(e.kind);
+            // A difference: scaled, not shifted (degF against degC).
+            const double tolerance = units::from_canonical(e.check->tolerance, shown) -
+                                     units::from_canonical(0.0, shown);
+            char buf[64];
+            std::snprintf(buf, sizeof buf, "%.4g %s", tolerance, std::string{shown.symbol}.c_str());
+            std::string tol{buf};
+            if (e.check->relative_tolerance > 0.0) {
+                std::snprintf(buf, sizeof buf, " + %.4g %% of the reading", 100.0 * e.check->relative_tolerance);
+                tol += buf;
+            }
+            out += "| `" + e.name + "` | `" + e.check->tag.name + "` | " + tol + " |\n";
+        }
+        out += "\n";
+    }
     out += "## Blocks\n\n| block | first | last | registers |\n|---|---|---|---|\n";
     for (const auto& blk : map.blocks) {
         const std::string name{blk.name.substr(0, blk.name.size() - 3)};
@@ -349,7 +384,7 @@ std::string to_markdown(const register_map& map, const config::plant_config& cfg
     }
     out += "\n## Input reason codes\n\nInput quality: 0 good, 1 uncertain (the last good value while "
            "reads fail or a spike is checked), 2 bad.\n\n| code | meaning |\n|---|---|\n";
-    for (int r = 0; r <= static_cast<int>(conditioning::reason::stale); ++r) {
+    for (int r = 0; r <= static_cast<int>(conditioning::last_reason); ++r) {
         out += "| " + std::to_string(r) + " | " + std::string{conditioning::to_string(static_cast<conditioning::reason>(r))} + " |\n";
     }
     return out;

@@ -110,6 +110,25 @@ struct tag {
     }
 };
 
+// A reference to a tag or lab entry by name, resolved and checked at load.
+struct signal_ref {
+    std::string name;
+    bool is_lab = false;    // false: a tag; true: a lab entry
+    std::size_t index = 0;  // into plant_config::tags or ::lab
+    source_pos at;
+
+    [[nodiscard]] bool empty() const { return name.empty(); }
+};
+
+// What a lab entry checks, when it is a check reading of an online probe (a portable meter or a
+// grab sample analysed in the lab): the tag it is compared with and how far the two may differ.
+// The comparison allows tolerance + relative_tolerance x |check reading|.
+struct probe_check {
+    signal_ref tag;                   // a [[tag]] of the entry's quantity
+    double tolerance = 0.0;           // canonical unit of the quantity, a difference; > 0
+    double relative_tolerance = 0.0;  // a fraction of the check reading (0..1)
+};
+
 // A value the operator enters from the lab sheet through the HMI.
 struct lab_entry {
     std::string name;
@@ -118,6 +137,7 @@ struct lab_entry {
     double valid_min = 0.0;  // canonical unit of `kind`
     double valid_max = 0.0;
     double max_age_s = 36.0 * 3600.0;  // older samples are not used
+    std::optional<probe_check> check;  // `checks`: the entry is a check reading of this tag
     source_pos at;
 };
 
@@ -146,15 +166,6 @@ struct site_config {
 };
 
 // --- Advisors ---------------------------------------------------------------------------------
-// A reference to a tag or lab entry by name, resolved and checked at load.
-struct signal_ref {
-    std::string name;
-    bool is_lab = false;    // false: a tag; true: a lab entry
-    std::size_t index = 0;  // into plant_config::tags or ::lab
-    source_pos at;
-
-    [[nodiscard]] bool empty() const { return name.empty(); }
-};
 
 // What every advisor has: its schedule, how long it holds its last good advice on bad input and
 // the safe value it falls back to after that. The loader copies `hold_for_s` into the advisor's

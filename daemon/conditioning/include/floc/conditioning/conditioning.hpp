@@ -16,7 +16,8 @@ namespace floc::conditioning {
 enum class quality : std::uint8_t {
     good = 0,       // a fresh reading that passed every check
     uncertain = 1,  // the last good value, still young: the latest read failed or was a spike
-    bad = 2,        // no usable value: never read, stale, out of range, not a number, frozen
+    bad = 2,        // no usable value: never read, stale, out of range, not a number, frozen,
+                    // or a check reading disagrees
 };
 
 // Why a value has its quality. The numbers are stable: they are published on the registers.
@@ -30,7 +31,12 @@ enum class reason : std::uint8_t {
     spike = 6,         // changed faster than max_change_per_minute
     frozen = 7,        // unchanged within frozen_tolerance for frozen_after
     stale = 8,         // no good reading for stale_after
+    check_disagrees = 9, // the latest check reading differs from the probe by more than its
+                         // tolerance (probe_check.hpp)
 };
+
+// The highest reason number in use (for tables that list them all).
+inline constexpr reason last_reason = reason::check_disagrees;
 
 [[nodiscard]] std::string_view to_string(quality q);
 [[nodiscard]] std::string_view to_string(reason r);
