@@ -77,7 +77,8 @@ Serving options:
   values outside an entry's limits are clamped to them; a non-number gets exception 04, a
   read-only, unmapped or half-covered register exception 02. SIGTERM and SIGINT stop cleanly.
 
-Operator stand-in (reads floc's advice as an HMI does, functions 03 only, never a write):
+Operator stand-in (reads floc's advice as an HMI does, function 03 only, never a write; only
+--enter-lab writes, and only into flocd's lab entries):
   --hmi ADDRESS:PORT    the floc advisory server to read (retried quietly every 3 s)
   --hmi-config FILE     the flocd config that server runs (its register map is built from it)
   --apply-advice DELAY  apply each good advice to the simulated PLC's set points DELAY of plant
@@ -86,6 +87,13 @@ Operator stand-in (reads floc's advice as an HMI does, functions 03 only, never 
   --show-advice         print the advice table on standard output (advisor, value, quality,
                         main reason, age, what the operator did): redrawn in place at most once
                         a second on a terminal, else a block every 5 s
+  --enter-lab           play the lab technician too: take the scenario's [lab_sheet] samples
+                        from the plant at their times (MLSS, RAS and WAS solids, SV30, effluent
+                        TSS, influent BOD5, temperature) and, after each entry delay, type the
+                        results into flocd's lab entries as an HMI does: the sample's age in
+                        minutes, then the value (function 16), then read the slot back (03);
+                        each outcome ("accepted", "refused: out of range", ...) on standard
+                        error as an "operator at ..." line; a refused entry is not typed again
 
 Output options (headless runs):
   --csv FILE            trend: every state of every zone and clarifier layer, the effluent,
@@ -112,7 +120,7 @@ plant procedures prevail over any advice.
 Exit codes: 0 ok / scenario valid / stopped by --for or a signal, 64 bad command line, 66 file
             unreadable, 70 internal or solver error, 71 the port cannot be opened, 73 output
             file not writable, 74 an output file failed while writing, 78 scenario or flocd
-            config invalid.
+            config invalid (or the lab sheet does not fit the flocd config).
 )";
 
 struct options {
@@ -201,7 +209,7 @@ std::variant<options, int> parse(std::span<char*> args) {
             "--hmi-config", "--apply-advice"};
         static const std::set<std::string_view> serving_only{
             "--bind", "--port", "--speed", "--fast", "--lockstep", "--client-log", "--status", "--hmi",
-            "--hmi-config", "--apply-advice", "--show-advice", "--allow-non-loopback"};
+            "--hmi-config", "--apply-advice", "--show-advice", "--enter-lab", "--allow-non-loopback"};
         o.serving_option = o.serving_option || serving_only.count(a) != 0;
         if (with_value.count(a) != 0) {
             const auto v = value();
@@ -283,6 +291,8 @@ std::variant<options, int> parse(std::span<char*> args) {
             sv.status = true;
         } else if (a == "--show-advice") {
             sv.show_advice = true;
+        } else if (a == "--enter-lab") {
+            sv.enter_lab = true;
         } else if (a == "--allow-non-loopback") {
             o.allow_non_loopback = true;
         } else {
@@ -325,8 +335,9 @@ std::optional<int> check_serving(options& o) {
         if (sv.hmi_config.empty()) {
             return usage_error("--hmi needs --hmi-config FILE, the config of the flocd it reads");
         }
-    } else if (!sv.hmi_config.empty() || sv.apply_delay_s || sv.show_advice) {
-        return usage_error("--hmi-config, --apply-advice and --show-advice need --hmi ADDRESS:PORT");
+    } else if (!sv.hmi_config.empty() || sv.apply_delay_s || sv.show_advice || sv.enter_lab) {
+        return usage_error(
+            "--hmi-config, --apply-advice, --show-advice and --enter-lab need --hmi ADDRESS:PORT");
     }
     sv.for_s = o.for_s;
     sv.trend = o.csv;

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <cstdio>
 #include <functional>
+#include <set>
 #include <vector>
 
 namespace floc::app {
@@ -268,6 +269,38 @@ void write_register_map(std::ostream& out, const sim::scenario& s) {
     }
 }
 
+namespace {
+
+// "8 entries, sampled daily at 08:00, typed in 2 h later, also at the start" or "none".
+std::string lab_sheet_text(const sim::lab_sheet_spec& sheet) {
+    if (sheet.entries.empty()) {
+        return "none";
+    }
+    std::set<double> times;
+    std::set<double> delays;
+    for (const sim::lab_sheet_entry& e : sheet.entries) {
+        times.insert(e.sample_times_s.begin(), e.sample_times_s.end());
+        delays.insert(e.entry_delay_s);
+    }
+    std::string at;
+    for (const double t : times) {
+        std::array<char, 32> buf{};
+        const auto minute = static_cast<int>(t / 60.0);
+        std::snprintf(buf.data(), buf.size(), "%02d:%02d", minute / 60, minute % 60);
+        at += (at.empty() ? "" : ", ") + std::string{buf.data()};
+    }
+    const auto hours = [](double s) { return number(s / 3600.0) + " h"; };
+    std::string delay = hours(*delays.begin());
+    if (delays.size() > 1) {
+        delay += " to " + hours(*delays.rbegin());
+    }
+    return std::to_string(sheet.entries.size()) +
+           (sheet.entries.size() == 1 ? " entry" : " entries") + ", sampled daily at " + at +
+           ", typed in " + delay + " later" + (sheet.at_start ? ", also at the start" : "");
+}
+
+} // namespace
+
 void write_summary(std::ostream& out, const sim::scenario& s) {
     std::size_t zones = 0;
     double volume = 0.0;
@@ -291,6 +324,7 @@ void write_summary(std::ostream& out, const sim::scenario& s) {
         << "  sensors     " << s.sensors.size() << " (" << faults << " scheduled faults), " << s.events.size() << " events\n"
         << "  server      port " << s.server.port << ", " << s.server.max_connections << " connections at most\n"
         << "  registers   " << s.registers.entries.size() << " entries" << (s.default_registers ? " (default map)" : "") << "\n"
+        << "  lab sheet   " << lab_sheet_text(s.lab_sheet) << "\n"
         << "  solver      " << (s.solver.stepper == sim::stepper_kind::dopri5 ? "dopri5" : "rosenbrock4") << ", rtol "
         << number(s.solver.relative_tolerance) << "\n";
 }

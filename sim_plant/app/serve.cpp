@@ -8,6 +8,8 @@
 #include "floc/modbus/server.hpp"
 #include "floc/registers/register_map.hpp"
 #include "floc/sim/hmi_operator.hpp"
+#include "floc/sim/lab_technician.hpp"
+#include "floc/sim/lab_writer.hpp"
 #include "floc/sim/modbus_reader.hpp"
 #include "floc/sim/plc_host.hpp"
 #include "floc/store/files.hpp"
@@ -119,6 +121,9 @@ public:
             hmi_map_ = registers::build(*hmi_cfg_);
             op_ =
                 std::make_unique<sim::operator_standin>(s_, hmi_map_, *hmi_cfg_, o_.apply_delay_s);
+            if (o_.enter_lab) {
+                lab_ = std::make_unique<sim::lab_technician>(s_, hmi_map_, *hmi_cfg_);
+            }
         }
     }
     plant_server(const plant_server&) = delete;
@@ -161,6 +166,17 @@ public:
             }
         });
         wall_start_ = steady::now();
+        if (lab_) {
+            const std::vector<std::string> left = lab_->not_on_sheet();
+            if (!left.empty()) {
+                std::string names;
+                for (const std::string& n : left) {
+                    names += (names.empty() ? "" : ", ") + n;
+                }
+                log_line("lab sheet: flocd's lab entries " + names +
+                         " are not on the scenario's lab sheet and are not typed in");
+            }
+        }
         after_advance();
         if (hmi_cfg_) {
             start_reader();
@@ -245,7 +261,8 @@ private:
     }
 
     // The next plant time to stop at on the way to `wanted`: a chunk at most, and every instant
-    // something is due (a fault starts or ends, a trend row, an operator's application, --for).
+    // something is due (a fault starts or ends, a trend row, an operator's application, a lab
+    // sample, --for).
     [[nodiscard]] double next_stop(double wanted) const {
         const double t = host_.time_s();
         double stop = std::min(wanted, t + max_chunk_s);
@@ -256,13 +273,27 @@ private:
         if (op_) {
             stop = std::min(stop, std::max(op_->next_due_s(), t + 1e-3));
         }
+        if (lab_) {
+            stop = std::min(stop, std::max(lab_->next_sample_s(), t + 1e-3));
+        }
         if (o_.for_s) {
             stop = std::min(stop, *o_.for_s);
         }
         return std::max(stop, t + 1e-3);
     }
 
+    // Advances to `t_s`, stopping at every lab sample on the way (a lockstep step may cross one).
     void advance(double t_s) {
+        while (lab_ && !stopping_ && lab_->next_sample_s() < t_s - 1e-6 &&
+               lab_->next_sample_s() > host_.time_s() + 1e-6) {
+            step_to(lab_->next_sample_s());
+        }
+        if (!stopping_) {
+            step_to(t_s);
+        }
+    }
+
+    void step_to(double t_s) {
         if (!host_.advance_to(t_s)) {
             std::cerr << "\nflocsim: " << host_.sim().error() << "\n";
             stop(exit_software);
@@ -310,12 +341,15 @@ private:
         });
     }
 
-    // Everything that follows plant time: the operator's applications, the protocol faults,
-    // the trend, the status line, --for.
+    // Everything that follows plant time: the operator's applications, the lab samples, the
+    // protocol faults, the trend, the status line, --for.
     void after_advance() {
         const double t = host_.time_s();
         if (op_ && op_->applies()) {
             apply_operator(t);
+        }
+        if (lab_ && t >= lab_->next_sample_s() - 1e-6) {
+            lab_->sample(t, host_.sim().outputs());
         }
         apply_fault_schedule(t);
         while (trend_.is_open() && t >= next_row_s_ - 1e-6) {
@@ -340,10 +374,15 @@ private:
             return;
         }
         host_.set_controls(u);
+        for (const std::string& c : changes) {
+            operator_line(t, c);
+        }
+    }
+
+    // What the operator did, on standard error; not while the live table on a terminal shows it.
+    void operator_line(double t, const std::string& what) {
         if (!(o_.show_advice && stdout_tty_)) {
-            for (const std::string& c : changes) {
-                log_line("operator at " + sim::plant_clock_text(t) + ": " + c);
-            }
+            log_line("operator at " + sim::plant_clock_text(t) + ": " + what);
         }
     }
 
@@ -418,6 +457,9 @@ private:
         reader_ = std::make_unique<sim::modbus_reader>(
             io_, ro, reads_, [this](const sim::read_cycle& c) { on_advice(c); });
         reader_->start();
+        if (lab_) {
+            lab_writer_ = std::make_unique<sim::modbus_lab_writer>(io_, ro);
+        }
         show_table(true);
     }
 
@@ -427,13 +469,42 @@ private:
         hmi_connected_ = c.ok;
         hmi_error_ = c.error;
         if (c.ok) {
-            op_->observe(sim::decode_advisory(hmi_map_, *hmi_cfg_, reads_, c.words),
-                         host_.time_s());
+            const sim::advisory_seen seen =
+                sim::decode_advisory(hmi_map_, *hmi_cfg_, reads_, c.words);
+            op_->observe(seen, host_.time_s());
             if (op_->applies()) {
                 apply_operator(host_.time_s());
             }
+            if (lab_) {
+                enter_lab(seen);
+            }
         }
         show_table(was_connected != hmi_connected_ || old_error != hmi_error_);
+    }
+
+    // The lab results due now, typed into flocd on the lab writer's own connection; one batch at
+    // a time, each outcome on standard error and in the table.
+    void enter_lab(const sim::advisory_seen& seen) {
+        if (lab_writer_->busy()) {
+            return;
+        }
+        std::vector<sim::lab_typing> typings = lab_->take_due(host_.time_s(), seen);
+        if (typings.empty()) {
+            return;
+        }
+        std::vector<sim::register_job> jobs;
+        jobs.reserve(typings.size());
+        for (const sim::lab_typing& t : typings) {
+            jobs.push_back(t.job);
+        }
+        lab_writer_->run(std::move(jobs), [this, typings = std::move(typings)](
+                                              const std::vector<sim::job_outcome>& outcomes) {
+            const double t = host_.time_s();
+            for (std::size_t i = 0; i < typings.size() && i < outcomes.size(); ++i) {
+                operator_line(t, lab_->record(typings[i], outcomes[i], t));
+            }
+            show_table(true);
+        });
     }
 
     void show_table(bool changed) {
@@ -456,6 +527,9 @@ private:
         ctx.serving = o_.bind + ":" + std::to_string(port_);
         ctx.plant_time_s = host_.time_s();
         ctx.clock = clock_text();
+        if (lab_) {
+            ctx.lab = lab_->render();
+        }
         const std::string table = sim::render_advice_table(hmi_map_, *hmi_cfg_, *op_, ctx);
         if (stdout_tty_) {
             std::cout << "\x1b[H\x1b[2J" << table << std::flush; // home, clear, redraw
@@ -525,6 +599,9 @@ private:
         if (reader_) {
             reader_->stop();
         }
+        if (lab_writer_) {
+            lab_writer_->stop();
+        }
         if (server_) {
             server_->stop();
         }
@@ -557,6 +634,8 @@ private:
     std::unique_ptr<sim::operator_standin> op_;
     std::unique_ptr<sim::modbus_reader> reader_;
     std::vector<sim::register_read> reads_;
+    std::unique_ptr<sim::lab_technician> lab_; // --enter-lab
+    std::unique_ptr<sim::modbus_lab_writer> lab_writer_;
     bool hmi_connected_ = false;
     std::string hmi_error_;
     bool table_shown_ = false;
@@ -603,6 +682,24 @@ int serve(const serve_options& o, const sim::scenario& s) {
             return exit_config;
         }
         hmi_cfg = std::move(r.config);
+        if (o.enter_lab) {
+            if (s.lab_sheet.entries.empty()) {
+                std::cerr << "flocsim: --enter-lab: the scenario " << s.source_file
+                          << " has no [lab_sheet] to type in\n";
+                return exit_usage;
+            }
+            const std::vector<std::string> problems =
+                sim::lab_sheet_problems(s.lab_sheet, *hmi_cfg);
+            for (const std::string& p : problems) {
+                std::cerr << p << "\n";
+            }
+            if (!problems.empty()) {
+                std::cerr << "flocsim: the lab sheet of " << s.lab_sheet.source_file
+                          << " does not fit the flocd config " << o.hmi_config
+                          << " (--hmi-config)\n";
+                return exit_config;
+            }
+        }
     }
     asio::io_context io;
     asio::signal_set signals{io, SIGINT, SIGTERM};

@@ -1,7 +1,7 @@
 // flocsim serving: the simulated plant behind the project's Modbus/TCP server, on plant time in
 // real time, accelerated, as fast as possible or in lockstep with its clients; the protocol
 // faults of the scenario on their schedule; the client log; the status line, the trend; and the
-// operator stand-in that reads floc's advice as an HMI does.
+// operator stand-in that reads floc's advice as an HMI does and types in the lab sheet.
 #pragma once
 
 #include "floc/sim/scenario.hpp"
@@ -36,6 +36,7 @@ struct serve_options {
     std::string hmi_config; // the flocd config its register map is built from
     std::optional<double> apply_delay_s;
     bool show_advice = false;
+    bool enter_lab = false; // type the scenario's lab sheet into flocd's lab entries
 };
 
 // Serves `s` until --for, SIGTERM or SIGINT; returns the exit code.

@@ -28,7 +28,7 @@ TEST(FlocsimCli, HelpDocumentsEveryOptionAndTheCautions) {
                                "--json", "--quiet", "--print-registers", "--version", "--serve", "--bind", "--port",
                                "--allow-non-loopback", "--speed", "--fast", "--lockstep", "--status", "--trend",
                                "--trend-interval", "--client-log", "--hmi", "--hmi-config", "--apply-advice",
-                               "--show-advice"}) {
+                               "--show-advice", "--enter-lab"}) {
         EXPECT_NE(r.out.find(option), std::string::npos) << option;
     }
     EXPECT_NE(r.out.find("Never point it"), std::string::npos);

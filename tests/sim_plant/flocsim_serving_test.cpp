@@ -161,6 +161,7 @@ TEST(FlocsimServing, RefusesBadServingOptionsBeforeServing) {
             "expected an IPv4 address and a port");
     refused({"--hmi", "127.0.0.1:15021"}, "--hmi needs --hmi-config");
     refused({"--show-advice"}, "need --hmi ADDRESS:PORT");
+    refused({"--enter-lab"}, "need --hmi ADDRESS:PORT");
     refused({"--port", "70000"}, "expected a port number from 0 to 65535");
     refused({"--speed", "0"}, "a number above 0");
     refused({"--speed", "60", "--fast"}, "exclude each other");
@@ -173,6 +174,40 @@ TEST(FlocsimServing, RefusesBadServingOptionsBeforeServing) {
     EXPECT_NE(unwritable.err.find("/nonexistent/dir is not a directory"), std::string::npos)
         << unwritable.err;
     refused({"--to-steady-state", "--port", "0"}, "cannot be served");
+}
+
+TEST(FlocsimServing, TheLabRoundNeedsALabSheetThatFitsFlocdsConfig) {
+    const std::string example = (source_dir / "config/examples/marrowby-si.toml").string();
+    // A scenario without a [lab_sheet]: nothing to type in.
+    const auto none = run_process({flocsim, "--scenario", scenario("carrick-fen"), "--port", "0",
+                                   "--hmi", "127.0.0.1:1", "--hmi-config", example, "--enter-lab"},
+                                  30s);
+    EXPECT_EQ(none.exit_code, 64) << none.err;
+    EXPECT_NE(none.err.find("carrick-fen.toml has no [lab_sheet] to type in"), std::string::npos)
+        << none.err;
+    // A flocd config whose settled-volume entry of train A has another name: the sheet's entry is
+    // reported where it is written, and flocsim does not start.
+    const fs::path dir = floc::sim::test::temp_dir("flocsim-lab-config");
+    std::string text = slurp(example);
+    for (std::size_t at = text.find("\"a_sv30\""); at != std::string::npos;
+         at = text.find("\"a_sv30\"", at)) {
+        text.replace(at, 8, "\"a_svol\"");
+    }
+    const std::string renamed = (dir / "renamed.toml").string();
+    std::ofstream(renamed) << text;
+    const auto bad = run_process({flocsim, "--scenario", scenario("marrowby"), "--port", "0",
+                                  "--hmi", "127.0.0.1:1", "--hmi-config", renamed, "--enter-lab"},
+                                 30s);
+    EXPECT_EQ(bad.exit_code, 78) << bad.err;
+    EXPECT_NE(bad.err.find(scenario("marrowby") + ":"), std::string::npos) << bad.err;
+    EXPECT_NE(bad.err.find("lab_sheet.entry[4].name: found the lab entry \"a_sv30\", not in " +
+                           renamed + "; expected the name of a lab entry of the flocd config"),
+              std::string::npos)
+        << bad.err;
+    EXPECT_NE(bad.err.find("does not fit the flocd config " + renamed), std::string::npos)
+        << bad.err;
+    EXPECT_TRUE(bad.out.empty()) << bad.out;
+    fs::remove_all(dir);
 }
 
 TEST(FlocsimServing, LockstepMovesOneStepPerReadOfThePlantTime) {

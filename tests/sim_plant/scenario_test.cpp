@@ -8,6 +8,7 @@
 #include <filesystem>
 #include <fstream>
 #include <regex>
+#include <tuple>
 
 namespace {
 
@@ -134,6 +135,70 @@ TEST(Scenarios, TheFaultBenchIsMarrowbyWithItsOwnSchedule) {
     EXPECT_EQ(s.events[1].delay_s, 1.5);
     EXPECT_EQ(s.events[2].function, std::optional<std::uint8_t>{4});
     EXPECT_EQ(s.events[2].exception, 4);
+}
+
+TEST(Scenarios, MarrowbysLabSheet) {
+    const scenario& s = test::marrowby();
+    const lab_sheet_spec& sheet = s.lab_sheet;
+    EXPECT_EQ(fs::path{sheet.source_file}.filename(), "marrowby.toml");
+    EXPECT_TRUE(sheet.at_start);
+    ASSERT_EQ(sheet.entries.size(), 8U);
+    const std::vector<std::tuple<std::string, lab_figure, std::size_t>> want{
+        {"a_mlss", lab_figure::mlss, 0},
+        {"b_mlss", lab_figure::mlss, 1},
+        {"a_ras_tss", lab_figure::ras_tss, 0},
+        {"b_ras_tss", lab_figure::ras_tss, 1},
+        {"a_sv30", lab_figure::sv30, 0},
+        {"b_sv30", lab_figure::sv30, 1},
+        {"effluent_tss", lab_figure::effluent_tss, no_index},
+        {"influent_bod", lab_figure::influent_bod5, no_index}};
+    for (std::size_t i = 0; i < want.size(); ++i) {
+        const lab_sheet_entry& e = sheet.entries[i];
+        EXPECT_EQ(e.name, std::get<0>(want[i]));
+        EXPECT_EQ(e.figure, std::get<1>(want[i])) << e.name;
+        EXPECT_EQ(e.train, std::get<2>(want[i])) << e.name;
+        EXPECT_EQ(e.sample_times_s, std::vector<double>{8 * 3600.0}) << e.name;
+        EXPECT_GT(e.at.line, 0U) << e.name;
+    }
+    EXPECT_EQ(sheet.entries[0].entry_delay_s, 7200.0);
+    EXPECT_EQ(sheet.entries[0].composite_s, 0.0);
+    EXPECT_EQ(sheet.entries[6].composite_s, 86400.0);
+    EXPECT_EQ(sheet.entries[7].composite_s, 86400.0);
+    EXPECT_EQ(sheet.entries[7].entry_delay_s, 5 * 86400.0); // the BOD5 test's five days
+    // The fault bench inherits it, written in its base.
+    const scenario bench = test::load("marrowby-faults");
+    EXPECT_EQ(bench.lab_sheet.source_file, sheet.source_file);
+    EXPECT_EQ(bench.lab_sheet.entries.size(), 8U);
+    EXPECT_TRUE(bench.lab_sheet.at_start);
+    // Scenarios without one have none.
+    EXPECT_TRUE(test::load("carrick-fen").lab_sheet.entries.empty());
+}
+
+TEST(Scenarios, LabSheetDefaultsAndOverrides) {
+    std::string text = test::slurp(source_dir / "tests/sim_plant/valid/minimal.toml");
+    text += "\n[lab_sheet]\nsample_times = [\"16:30\", \"07:45\"]\nentry_delay = \"90 min\"\n"
+            "[[lab_sheet.entry]]\nname = \"mlss\"\nsource = \"mlss\"\n"
+            "[[lab_sheet.entry]]\nname = \"temp\"\nsource = \"temperature\"\nsample_times = "
+            "[\"12:00\"]\n"
+            "entry_delay = \"0 s\"\n"
+            "[[lab_sheet.entry]]\nname = \"eff\"\nsource = \"effluent_tss\"\ntrain = "
+            "\"T\"\ncomposite = \"12 h\"\n";
+    const scenario_result r = load_scenario_text(text, "sheet.toml");
+    ASSERT_TRUE(r.ok()) << (r.errors.empty() ? "" : r.errors.front().message());
+    const lab_sheet_spec& sheet = r.value->lab_sheet;
+    EXPECT_FALSE(sheet.at_start);
+    ASSERT_EQ(sheet.entries.size(), 3U);
+    // Sorted; a one-train plant's train is implied for a train figure.
+    EXPECT_EQ(sheet.entries[0].sample_times_s,
+              (std::vector<double>{7 * 3600.0 + 45 * 60.0, 16 * 3600.0 + 30 * 60.0}));
+    EXPECT_EQ(sheet.entries[0].entry_delay_s, 5400.0);
+    EXPECT_EQ(sheet.entries[0].train, 0U);
+    EXPECT_EQ(sheet.entries[1].sample_times_s, std::vector<double>{12 * 3600.0});
+    EXPECT_EQ(sheet.entries[1].entry_delay_s, 0.0);
+    EXPECT_EQ(sheet.entries[1].train, no_index);
+    EXPECT_EQ(sheet.entries[2].train, 0U);
+    EXPECT_EQ(sheet.entries[2].composite_s, 12 * 3600.0);
+    EXPECT_EQ(sheet.source_file, "sheet.toml");
 }
 
 TEST(Scenarios, ABaseScenarioMustBeReadableValidAndNotBasedOnAnother) {

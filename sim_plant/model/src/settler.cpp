@@ -11,6 +11,47 @@ double settling_velocity(const settling_spec& s, double tss_g_per_m3, double x_m
     return std::clamp(v, 0.0, s.v0_max_m_per_d);
 }
 
+void gravity_flux(const settling_spec& s, const double* tss_g_per_m3, std::size_t n,
+                  std::size_t feed_layer, double x_min_g_per_m3, double* down_g_per_m2_per_d) {
+    if (n == 0) {
+        return;
+    }
+    // First every layer's own flux v_s(X_j) X_j, then, going down, the flux across each boundary:
+    // down[j + 1] still holds the own flux of layer j + 1 when down[j] is decided.
+    for (std::size_t j = 0; j < n; ++j) {
+        const double x = tss_g_per_m3[j];
+        down_g_per_m2_per_d[j] = settling_velocity(s, x, x_min_g_per_m3) * x;
+    }
+    for (std::size_t j = 0; j + 1 < n; ++j) {
+        const bool clarification = j < feed_layer && tss_g_per_m3[j + 1] <= s.x_t_g_per_m3;
+        if (!clarification) {
+            down_g_per_m2_per_d[j] = std::min(down_g_per_m2_per_d[j], down_g_per_m2_per_d[j + 1]);
+        }
+    }
+    down_g_per_m2_per_d[n - 1] = 0.0;
+}
+
+double interface_height(const double* tss, std::size_t n, double depth_m, double threshold) {
+    if (n == 0) {
+        return 0.0;
+    }
+    const double h = depth_m / static_cast<double>(n);
+    // Mid-height of layer j above the floor (layer 0 is the top).
+    const auto mid = [&](std::size_t j) { return (static_cast<double>(n - 1 - j) + 0.5) * h; };
+    for (std::size_t j = 0; j < n; ++j) {
+        if (tss[j] < threshold) {
+            continue;
+        }
+        if (j == 0) {
+            return depth_m;
+        }
+        // Between the mid-heights of layer j (at or above the threshold) and j-1 (below it).
+        const double frac = (tss[j] - threshold) / (tss[j] - tss[j - 1]);
+        return mid(j) + frac * h;
+    }
+    return 0.0;
+}
+
 void settler_derivatives(const clarifier_spec& c, const asm1::parameters& p, const asm1::vector& feed,
                          const settler_flows& q, const double* layers, double* d_layers) {
     constexpr std::size_t n = settler_layers;
@@ -23,20 +64,13 @@ void settler_derivatives(const clarifier_spec& c, const asm1::parameters& p, con
     const double x_min = c.settling.f_ns * asm1::tss(p, feed);
 
     std::array<double, n> tss{};
-    std::array<double, n> flux_self{};  // v_s(X_j) X_j
     for (std::size_t j = 0; j < n; ++j) {
         const double* x = layers + j * m;
-        const double t = std::max(0.0, p.tss_per_cod * (x[asm1::x_i] + x[asm1::x_s] + x[asm1::x_bh] +
-                                                         x[asm1::x_ba] + x[asm1::x_p]));
-        tss[j] = t;
-        flux_self[j] = settling_velocity(c.settling, t, x_min) * t;
+        tss[j] = std::max(0.0, p.tss_per_cod * (x[asm1::x_i] + x[asm1::x_s] + x[asm1::x_bh] +
+                                                x[asm1::x_ba] + x[asm1::x_p]));
     }
-    // Gravity flux of solids from layer j down into layer j+1 (g SS/m2/d).
     std::array<double, n> down{};  // down[n-1] = 0: nothing settles through the floor
-    for (std::size_t j = 0; j + 1 < n; ++j) {
-        const bool clarification = j < f && tss[j + 1] <= c.settling.x_t_g_per_m3;
-        down[j] = clarification ? flux_self[j] : std::min(flux_self[j], flux_self[j + 1]);
-    }
+    gravity_flux(c.settling, tss.data(), n, f, x_min, down.data());
 
     for (std::size_t j = 0; j < n; ++j) {
         const double* x = layers + j * m;
@@ -69,26 +103,6 @@ void settler_derivatives(const clarifier_spec& c, const asm1::parameters& p, con
 
 namespace {
 
-double interpolated_height(const clarifier_spec& c, const std::array<double, settler_layers>& tss) {
-    constexpr std::size_t n = settler_layers;
-    const double h = c.layer_height_m();
-    const double thr = c.blanket_threshold_g_per_m3;
-    // Mid-height of layer j above the floor (layer 0 is the top).
-    const auto mid = [&](std::size_t j) { return (static_cast<double>(n - 1 - j) + 0.5) * h; };
-    for (std::size_t j = 0; j < n; ++j) {
-        if (tss[j] < thr) {
-            continue;
-        }
-        if (j == 0) {
-            return c.depth_m;
-        }
-        // Between the mid-heights of layer j (at or above the threshold) and j-1 (below it).
-        const double frac = (tss[j] - thr) / (tss[j] - tss[j - 1]);
-        return mid(j) + frac * h;
-    }
-    return 0.0;
-}
-
 double benchmark_height(const clarifier_spec& c, const std::array<double, settler_layers>& x) {
     constexpr std::size_t n = settler_layers;
     const double h = c.layer_height_m();
@@ -116,8 +130,10 @@ double benchmark_height(const clarifier_spec& c, const std::array<double, settle
 } // namespace
 
 double blanket_height(const clarifier_spec& c, const std::array<double, settler_layers>& tss) {
-    const double height = c.blanket == blanket_rule::benchmark ? benchmark_height(c, tss)
-                                                               : interpolated_height(c, tss);
+    const double height =
+        c.blanket == blanket_rule::benchmark
+            ? benchmark_height(c, tss)
+            : interface_height(tss.data(), tss.size(), c.depth_m, c.blanket_threshold_g_per_m3);
     if (!std::isfinite(height)) {
         return 0.0;
     }

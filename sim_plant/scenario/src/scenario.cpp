@@ -111,6 +111,7 @@ public:
         root.each_table("sensor", [&](table_reader& r, std::size_t) { read_sensor(r); });
         root.each_table("event", [&](table_reader& r, std::size_t) { read_event(r); });
         root.table("server", need::optional, [&](table_reader& r) { read_server(r); });
+        root.table("lab_sheet", need::optional, [&](table_reader& r) { read_lab_sheet(r); });
         if (root.has("registers")) {
             s_.default_registers = false;
             root.table("registers", need::optional, [&](table_reader& r) { read_registers(r); });
@@ -130,10 +131,14 @@ public:
             give_up();
             return;
         }
-        for (const std::string_view key : {"solver", "initial", "influent", "biology", "oxygen", "train", "sensor", "registers"}) {
+        for (const std::string_view key : {"solver", "initial", "influent", "biology", "oxygen",
+                                           "train", "sensor", "registers", "lab_sheet"}) {
             if (root.has(key)) {
-                d_.error(root.pos_of(key), std::string{key}, "the table " + quote(key) + " in a scenario based on another",
-                         "only [scenario], [server], [[fault]] and [[event]] here (the plant is the base's; change it there)");
+                d_.error(root.pos_of(key), std::string{key},
+                         "the table " + quote(key) + " in a scenario based on another",
+                         "only [scenario], [server], [[fault]] and [[event]] here (the plant and "
+                         "its lab sheet are the "
+                         "base's; change them there)");
                 root.skip({key});
             }
         }
@@ -725,6 +730,123 @@ private:
             sv.max_connections = static_cast<std::size_t>(*n);
         }
         set(r.quantity("idle_timeout", quantity::duration, 0.0, 86400.0, need::optional), sv.idle_timeout_s);
+    }
+
+    // Times of day "HH:MM" (plant time), each once, returned ascending in seconds after midnight.
+    std::optional<std::vector<double>> times_of_day(table_reader& r, std::string_view key, need n) {
+        const auto list = r.string_list(key, n);
+        if (!list) {
+            return std::nullopt;
+        }
+        const std::vector<config::source_pos> where = r.list_positions(key);
+        const auto at = [&](std::size_t i) { return i < where.size() ? where[i] : r.pos_of(key); };
+        const auto path = [&](std::size_t i) {
+            return r.path_of(key) + "[" + std::to_string(i) + "]";
+        };
+        std::vector<double> out;
+        bool good = true;
+        for (std::size_t i = 0; i < list->size(); ++i) {
+            const std::string& t = (*list)[i];
+            const bool shape =
+                t.size() == 5 && t[2] == ':' && std::all_of(t.begin(), t.end(), [](char c) {
+                    return c == ':' || (c >= '0' && c <= '9');
+                });
+            const int h = shape ? (t[0] - '0') * 10 + (t[1] - '0') : 99;
+            const int m = shape ? (t[3] - '0') * 10 + (t[4] - '0') : 99;
+            if (h > 23 || m > 59) {
+                d_.error(at(i), path(i), quote(t),
+                         "a time of day \"HH:MM\" from \"00:00\" to \"23:59\" (plant time)");
+                good = false;
+                continue;
+            }
+            const double s = 3600.0 * h + 60.0 * m;
+            if (std::find(out.begin(), out.end(), s) != out.end()) {
+                d_.error(at(i), path(i), quote(t) + " a second time", "each time of day once");
+                good = false;
+                continue;
+            }
+            out.push_back(s);
+        }
+        if (good && out.empty()) {
+            d_.error(r.pos_of(key), r.path_of(key), "an empty list",
+                     "at least one time of day, like [\"08:00\"]");
+            good = false;
+        }
+        if (!good) {
+            return std::nullopt;
+        }
+        std::sort(out.begin(), out.end());
+        return out;
+    }
+
+    void read_lab_sheet(table_reader& r) {
+        lab_sheet_spec& sheet = s_.lab_sheet;
+        sheet.source_file = s_.source_file;
+        const std::vector<double> times =
+            times_of_day(r, "sample_times", need::required).value_or(std::vector<double>{});
+        constexpr double max_delay_s = 30.0 * 86400.0;
+        const double delay =
+            r.quantity("entry_delay", quantity::duration, 0.0, max_delay_s, need::required)
+                .value_or(0.0);
+        set(r.boolean("at_start", need::optional), sheet.at_start);
+        std::map<std::string, std::size_t, std::less<>> names;
+        r.each_table("entry", [&](table_reader& e, std::size_t i) {
+            lab_sheet_entry entry;
+            entry.at = e.pos_of("name");
+            set(e.name("name", need::required), entry.name);
+            if (!entry.name.empty() && !names.emplace(entry.name, i).second) {
+                d_.error(e.pos_of("name"), e.path_of("name"),
+                         "the entry " + quote(entry.name) + " a second time",
+                         "each flocd lab entry once on the sheet");
+            }
+            const auto figure = e.choice<lab_figure>("source",
+                                                     {{"mlss", lab_figure::mlss},
+                                                      {"ras_tss", lab_figure::ras_tss},
+                                                      {"was_tss", lab_figure::was_tss},
+                                                      {"effluent_tss", lab_figure::effluent_tss},
+                                                      {"influent_bod5", lab_figure::influent_bod5},
+                                                      {"sv30", lab_figure::sv30},
+                                                      {"temperature", lab_figure::temperature}},
+                                                     need::required);
+            if (!figure) {
+                e.skip({"train", "composite"});
+            } else {
+                entry.figure = *figure;
+                const std::string what{to_string(*figure)};
+                if (may_have_train(*figure)) {
+                    const bool one = s_.plant.trains.size() == 1 && needs_train(*figure);
+                    const need n = needs_train(*figure) && !one ? need::required : need::optional;
+                    if (const auto t = train_ref(e, "train", n)) {
+                        entry.train = *t;
+                    } else if (one) {
+                        entry.train = 0;
+                    }
+                } else if (e.has("train")) {
+                    d_.error(e.pos_of("train"), e.path_of("train"), "a train for " + what,
+                             "no train: " + what + " is the plant's");
+                    e.skip({"train"});
+                }
+                if (e.has("composite") && !may_be_composite(*figure)) {
+                    d_.error(e.pos_of("composite"), e.path_of("composite"),
+                             "a composite of " + what,
+                             "a grab sample (composites are for influent_bod5 and effluent_tss)");
+                    e.skip({"composite"});
+                } else {
+                    set(e.quantity("composite", quantity::duration, 3600.0, 7.0 * 86400.0,
+                                   need::optional),
+                        entry.composite_s);
+                }
+            }
+            entry.sample_times_s = times_of_day(e, "sample_times", need::optional).value_or(times);
+            entry.entry_delay_s =
+                e.quantity("entry_delay", quantity::duration, 0.0, max_delay_s, need::optional)
+                    .value_or(delay);
+            sheet.entries.push_back(std::move(entry));
+        });
+        if (sheet.entries.empty()) {
+            d_.error(r.pos(), r.path_of("entry"), "no [[lab_sheet.entry]]",
+                     "at least one entry naming a flocd lab entry");
+        }
     }
 
     void read_registers(table_reader& r) {

@@ -33,18 +33,6 @@ std::string reading_text(double v) {
     return buf.data();
 }
 
-// The canonical value in the display unit of the advisory config, with its unit.
-std::string display_text(const config::plant_config& cfg, units::quantity q, double canonical) {
-    if (!std::isfinite(canonical)) {
-        return "-";
-    }
-    if (q == units::quantity::dimensionless) {
-        return reading_text(canonical) + " x flow";
-    }
-    const units::unit& u = cfg.display.unit_for(q);
-    return reading_text(units::from_canonical(canonical, u)) + " " + std::string{u.symbol};
-}
-
 std::string kind_text(advisor_kind k) {
     switch (k) {
     case advisor_kind::aeration:
@@ -112,13 +100,6 @@ std::string age_text(std::uint16_t age_s) {
     return number_text(age_s / 3600.0, 2) + " h";
 }
 
-std::string pad(std::string s, std::size_t width) {
-    if (s.size() < width) {
-        s.append(width - s.size(), ' ');
-    }
-    return s;
-}
-
 std::string setpoint_label(setpoint_kind k) {
     switch (k) {
     case setpoint_kind::do_setpoint:
@@ -140,6 +121,24 @@ std::string setpoint_label(setpoint_kind k) {
 }
 
 } // namespace
+
+std::string display_text(const config::plant_config& cfg, units::quantity q, double canonical) {
+    if (!std::isfinite(canonical)) {
+        return "-";
+    }
+    if (q == units::quantity::dimensionless) {
+        return reading_text(canonical) + " x flow";
+    }
+    const units::unit& u = cfg.display.unit_for(q);
+    return reading_text(units::from_canonical(canonical, u)) + " " + std::string{u.symbol};
+}
+
+std::string table_cell(std::string s, std::size_t width) {
+    if (s.size() < width) {
+        s.append(width - s.size(), ' ');
+    }
+    return s;
+}
 
 std::vector<register_read> advisory_reads(const registers::register_map& map) {
     std::vector<register_read> reads;
@@ -405,18 +404,19 @@ std::string render_advice_table(const registers::register_map& map, const config
            (op.applies() ? "; good advice is applied after the acceptance delay"
                          : "; advice is shown, not applied") +
            "\n";
-    out += pad("advisor", 20) + pad("value", 14) + pad("quality", 13) + pad("main reason", 32) +
-           pad("age", 8) + "operator\n";
+    out += table_cell("advisor", 20) + table_cell("value", 14) + table_cell("quality", 13) +
+           table_cell("main reason", 32) + table_cell("age", 8) + "operator\n";
     for (std::size_t i = 0; i < map.advice.size(); ++i) {
         const registers::advice_slot& slot = map.advice[i];
-        std::string row = pad(kind_text(slot.kind) + " " + slot.subject, 20);
+        std::string row = table_cell(kind_text(slot.kind) + " " + slot.subject, 20);
         if (seen && i < seen->advice.size() && ctx.connected) {
             const advice_seen& a = seen->advice[i];
-            row += pad(a.quality == 3 ? "-" : display_text(cfg, a.quantity, a.value), 14) +
-                   pad(quality_text(a.quality), 13) + pad(reason_text(a.reasons[0]), 32) +
-                   pad(age_text(a.age_s), 8);
+            row += table_cell(a.quality == 3 ? "-" : display_text(cfg, a.quantity, a.value), 14) +
+                   table_cell(quality_text(a.quality), 13) +
+                   table_cell(reason_text(a.reasons[0]), 32) + table_cell(age_text(a.age_s), 8);
         } else {
-            row += pad("-", 14) + pad("-", 13) + pad("-", 32) + pad("-", 8);
+            row += table_cell("-", 14) + table_cell("-", 13) + table_cell("-", 32) +
+                   table_cell("-", 8);
         }
         row += op.action(i);
         while (!row.empty() && row.back() == ' ') {
@@ -424,6 +424,7 @@ std::string render_advice_table(const registers::register_map& map, const config
         }
         out += row + "\n";
     }
+    out += ctx.lab;
     out += "advisory only: a licensed operator decides\n";
     return out;
 }

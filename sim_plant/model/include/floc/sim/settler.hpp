@@ -55,6 +55,22 @@ struct clarifier_spec {
 // Takacs settling velocity (m/d) of solids at `tss` with the non-settleable floor `x_min`.
 [[nodiscard]] double settling_velocity(const settling_spec& s, double tss_g_per_m3, double x_min_g_per_m3);
 
+// Gravity flux of solids (g SS/m2/d) from each layer into the one below it, for layers of TSS
+// `tss_g_per_m3` (top first): above `feed_layer`, while the layer below is at or under the
+// threshold x_t (the clarification zone), J_j = v_s(X_j) X_j; elsewhere (the thickening zone)
+// J_j = min(v_s(X_j) X_j, v_s(X_j+1) X_j+1); nothing settles through the floor, so the last flux is
+// 0. `tss` and `down` hold `n` layers. Shared by the clarifier and the settleometer's batch
+// column. (Pointers and counts: this header is also compiled as C++17, see CMakeLists.txt.)
+void gravity_flux(const settling_spec& s, const double* tss_g_per_m3, std::size_t n,
+                  std::size_t feed_layer, double x_min_g_per_m3, double* down_g_per_m2_per_d);
+
+// The height above the floor (m) of the first crossing of `threshold` going down from the surface
+// through a profile of `n` equal layers (top first), the profile taken as linear between the layer
+// mid-heights; 0 when no layer reaches the threshold, the full depth when the top layer does.
+// The clarifier's interpolated blanket rule and the settleometer's interface.
+[[nodiscard]] double interface_height(const double* tss_g_per_m3, std::size_t n, double depth_m,
+                                      double threshold_g_per_m3);
+
 struct settler_flows {
     double feed_m3_per_d = 0.0;
     double effluent_m3_per_d = 0.0;   // leaves at the top

@@ -6,6 +6,7 @@
 #pragma once
 
 #include "floc/config/load.hpp"
+#include "floc/sim/lab.hpp"
 #include "floc/sim/plant.hpp"
 #include "floc/sim/registers.hpp"
 #include "floc/sim/sensors.hpp"
@@ -36,6 +37,26 @@ struct server_spec {
     double idle_timeout_s = 300.0;             // 0: never
 };
 
+// The lab sheet the operator stand-in types into flocd's lab entries (flocsim --enter-lab): what
+// each entry is, when it is sampled, how long its result takes to be typed in.
+struct lab_sheet_entry {
+    std::string name; // the flocd [[lab_entry]] it is typed into
+    lab_figure figure = lab_figure::mlss;
+    std::size_t train = no_index; // no_index: the plant's
+    std::vector<double>
+        sample_times_s;         // times of day (s after midnight of each plant day), ascending
+    double entry_delay_s = 0.0; // from sampling to typing in
+    double composite_s = 0.0;   // 0: a grab sample; else a flow-proportional composite over
+                                // this long, ending at the sampling time
+    config::source_pos at;      // where its name is written
+};
+
+struct lab_sheet_spec {
+    std::string source_file; // the file it is written in (a base's, when inherited)
+    std::vector<lab_sheet_entry> entries;
+    bool at_start = false; // also a sheet sampled at plant time 0 and typed in at once
+};
+
 struct scenario {
     std::string source_file;
     std::string based_on;  // the base scenario's path when this one is based on another
@@ -52,6 +73,7 @@ struct scenario {
     initial_mode initial = initial_mode::steady;
     asm1::vector initial_guess{};
     server_spec server;
+    lab_sheet_spec lab_sheet; // no entries: no lab sheet
 
     [[nodiscard]] const sensor_spec* find_sensor(std::string_view name) const;
 };

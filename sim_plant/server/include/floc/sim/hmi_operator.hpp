@@ -57,6 +57,15 @@ struct advisory_seen {
 // "day 2 07:35:00" for a plant time in seconds since the scenario started.
 [[nodiscard]] std::string plant_clock_text(double t_s);
 
+// `s` padded with spaces to `width` (never cut): a column of the advice table.
+[[nodiscard]] std::string table_cell(std::string s, std::size_t width);
+
+// A canonical value in the display unit of the advisory config with the unit: two decimals below
+// 10, one below 100, none above ("2.60 mg/L", "31.2 mg/L", "2509 mg/L"; a ratio as "0.80 x flow");
+// "-" when not finite.
+[[nodiscard]] std::string display_text(const config::plant_config& cfg, units::quantity q,
+                                       double canonical);
+
 class operator_standin {
 public:
     // `s` and `map` must outlive the stand-in. Without `delay_s` nothing is applied (the table
@@ -120,6 +129,7 @@ struct table_context {
     std::string serving;       // flocsim's own address, "127.0.0.1:15020"
     double plant_time_s = 0.0; // flocsim's plant time
     std::string clock;         // flocsim's time mode, e.g. "lockstep 1 min"
+    std::string lab; // the lab round's rows (lab_technician::render), shown below the advice
 };
 
 // The live advice table: a header with flocd's state, heartbeat and plant time, one row per
