@@ -11,6 +11,7 @@
 #include "floc/registers/register_map.hpp"
 #include "floc/sim/lab_technician.hpp"
 
+#include <algorithm>
 #include <gtest/gtest.h>
 
 #include <bit>
@@ -342,7 +343,9 @@ TEST(LabRound, ASheetWithoutEntriesSamplesNothing) {
     const scenario s = test::load("carrick-fen");
     lab_technician lab{s, f.map, f.cfg};
     EXPECT_EQ(lab.next_sample_s(), std::numeric_limits<double>::infinity());
-    EXPECT_EQ(lab.not_on_sheet().size(), f.cfg.lab.size());
+    const auto sheet_entries = std::count_if(f.cfg.lab.begin(), f.cfg.lab.end(),
+                                             [](const config::lab_entry& l) { return !l.check; });
+    EXPECT_EQ(lab.not_on_sheet().size(), static_cast<std::size_t>(sheet_entries));
     EXPECT_TRUE(lab.render().empty());
 }
 

@@ -118,6 +118,9 @@ lab_technician::lab_technician(const scenario& s, const registers::register_map&
 std::vector<std::string> lab_technician::not_on_sheet() const {
     std::vector<std::string> out;
     for (std::size_t i = 0; i < cfg_.lab.size(); ++i) {
+        if (cfg_.lab[i].check) {
+            continue; // a probe check reading: taken beside the probe, not a lab-sheet result
+        }
         const bool typed = std::any_of(entries_.begin(), entries_.end(),
                                        [&](const entry_state& e) { return e.flocd == i; });
         if (!typed) {

@@ -65,7 +65,8 @@ public:
     lab_technician(const lab_technician&) = delete;
     lab_technician& operator=(const lab_technician&) = delete;
 
-    // flocd's lab entries that are not on the sheet; they are not typed in.
+    // flocd's lab entries that are not on the sheet; they are not typed in. Probe check entries
+    // (`checks` in the flocd config) are not lab-sheet results and are never listed.
     [[nodiscard]] std::vector<std::string> not_on_sheet() const;
 
     // The plant time of the next sample or aliquot (0 before the start sheet); infinity if none.
