@@ -11,9 +11,9 @@
 #include "floc/registers/register_map.hpp"
 #include "floc/sim/lab_technician.hpp"
 
-#include <algorithm>
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <bit>
 #include <cmath>
 #include <limits>
