@@ -1,4 +1,5 @@
 #include "child_process.hpp"
+#include "process.hpp"
 
 #include <fcntl.h>
 #include <poll.h>
@@ -19,16 +20,6 @@ void close_fd(int& fd) {
         ::close(fd);
         fd = -1;
     }
-}
-
-int exit_code_of(int status) {
-    if (WIFEXITED(status)) {
-        return WEXITSTATUS(status);
-    }
-    if (WIFSIGNALED(status)) {
-        return 128 + WTERMSIG(status);
-    }
-    return -1;
 }
 
 } // namespace
@@ -154,13 +145,13 @@ std::optional<int> child_process::wait(std::chrono::milliseconds limit) {
         int status = 0;
         const pid_t r = ::waitpid(pid_, &status, WNOHANG);
         if (r == pid_) {
-            exit_code_ = exit_code_of(status);
+            exit_code_ = floc::test::exit_code_of(status);
             break;
         }
         if (std::chrono::steady_clock::now() >= deadline) {
             ::kill(pid_, SIGKILL);
             ::waitpid(pid_, &status, 0);
-            exit_code_ = exit_code_of(status);
+            exit_code_ = floc::test::exit_code_of(status);
             return std::nullopt;
         }
     }

@@ -106,9 +106,7 @@ process_result run_process(const std::vector<std::string>& argv, std::chrono::mi
     return result;
 }
 
-namespace {
-
-int decode_status(int status) {
+int exit_code_of(int status) {
     if (WIFEXITED(status)) {
         return WEXITSTATUS(status);
     }
@@ -117,8 +115,6 @@ int decode_status(int status) {
     }
     return -1;
 }
-
-} // namespace
 
 background_process::background_process(const std::vector<std::string>& argv,
                                        const std::string& out_path, const std::string& err_path) {
@@ -172,7 +168,7 @@ std::optional<int> background_process::wait(std::chrono::milliseconds limit) {
         int status = 0;
         const pid_t r = ::waitpid(pid_, &status, WNOHANG);
         if (r == pid_) {
-            exit_code_ = decode_status(status);
+            exit_code_ = exit_code_of(status);
             return exit_code_;
         }
         if (r < 0 && errno != EINTR) {

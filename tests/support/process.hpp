@@ -15,6 +15,9 @@ struct process_result {
     std::string err;          // standard error
 };
 
+// The exit code a waitpid() status stands for: the exit status, or 128 + the signal number.
+[[nodiscard]] int exit_code_of(int wait_status);
+
 // Runs argv[0] with arguments argv[1..] and waits at most `limit`; the child is killed (SIGKILL)
 // when the limit passes. `input` is written to its standard input.
 [[nodiscard]] process_result run_process(const std::vector<std::string>& argv,
