@@ -7,8 +7,27 @@ namespace {
 
 using namespace floc::advisors;
 
+// The dotted key of a member inside the nested structs being visited ("history.mean").
+class key_path {
+public:
+    void push(std::string_view p) { prefix_.push_back(std::string{p}); }
+    void pop() { prefix_.pop_back(); }
+
+protected:
+    [[nodiscard]] std::string key(std::string_view name) const {
+        std::string k;
+        for (const auto& p : prefix_) {
+            k += p + ".";
+        }
+        return k + std::string{name};
+    }
+
+private:
+    std::vector<std::string> prefix_;
+};
+
 // Writes every visited member into a section.
-class writer {
+class writer : public key_path {
 public:
     explicit writer(store::state_section& out) : out_(out) {}
 
@@ -22,23 +41,13 @@ public:
         }
     }
     void list(std::string_view name, std::vector<double> v) { out_[key(name)] = std::move(v); }
-    void push(std::string_view p) { prefix_.push_back(std::string{p}); }
-    void pop() { prefix_.pop_back(); }
 
 private:
-    std::string key(std::string_view name) const {
-        std::string k;
-        for (const auto& p : prefix_) {
-            k += p + ".";
-        }
-        return k + std::string{name};
-    }
     store::state_section& out_;
-    std::vector<std::string> prefix_;
 };
 
 // Reads every visited member from a section; missing members keep their value.
-class reader {
+class reader : public key_path {
 public:
     explicit reader(const store::state_section& in) : in_(in) {}
 
@@ -72,19 +81,9 @@ public:
         const auto* l = std::get_if<std::vector<double>>(&it->second);
         return l != nullptr ? *l : std::vector<double>{};
     }
-    void push(std::string_view p) { prefix_.push_back(std::string{p}); }
-    void pop() { prefix_.pop_back(); }
 
 private:
-    std::string key(std::string_view name) const {
-        std::string k;
-        for (const auto& p : prefix_) {
-            k += p + ".";
-        }
-        return k + std::string{name};
-    }
     const store::state_section& in_;
-    std::vector<std::string> prefix_;
 };
 
 template <class V, class S>
